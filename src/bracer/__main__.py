@@ -1,0 +1,3 @@
+from bracer.cli import main
+
+main()
