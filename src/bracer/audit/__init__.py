@@ -1,0 +1,1 @@
+"""The post-session audit: replay a session log against the protocol's effective limits."""
