@@ -37,6 +37,9 @@ class Stream:
         Column name -> values in the internal unit; NaN where the cell was empty or unreadable.
     units : dict of str to str
         Column name -> the unit the protocol declared for it (what reports show).
+    states : dict of str to ndarray, shape (n,)
+        Status columns (stop triggers, safety state, modes) as recorded, not unit-converted: float64 when the
+        column is numeric, otherwise an array of str (missing cells as "").
     expected_rate : float
         Sample rate the protocol declares for this stream, Hz.
     """
@@ -47,6 +50,7 @@ class Stream:
     channels: dict[str, np.ndarray]
     units: dict[str, str]
     expected_rate: float
+    states: dict[str, np.ndarray] = field(default_factory=dict)
 
     @property
     def n(self) -> int:
