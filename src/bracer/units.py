@@ -37,6 +37,8 @@ __all__ = [
     "Quantity",
     "UnitError",
     "dimension_name",
+    "format_number",
+    "known_units",
     "parse_quantity",
     "parse_unit",
 ]
@@ -145,8 +147,13 @@ _SUGGEST: Final[dict[str, str]] = {
     "µs": "us",
 }
 
-_SUPERSCRIPTS: Final[dict[str, str]] = {"²": "^2", "³": "^3", "⁻¹": "^-1", "⁻²": "^-2"}
-_TERM = re.compile(r"^([A-Za-z°µ]+)(?:(?:\^|\*\*)([+-]?\d+))?$")
+_SUPERSCRIPTS: Final[dict[str, str]] = {"⁻¹": "^-1", "⁻²": "^-2", "⁻³": "^-3", "²": "^2", "³": "^3"}
+#: Symbols for multiplication people type: the middle dot, the dot operator and the multiplication sign.
+_TIMES: Final[tuple[str, ...]] = ("·", "⋅", "×")
+# A term: a symbol, or the number 1 (as in '1/s'), with an optional integer exponent.
+_TERM = re.compile(r"^([A-Za-z°µ]+|1)(?:(?:\^|\*\*)([+-]?\d+))?$")
+#: Largest exponent magnitude a term may carry (m^4 is the highest power a limit here needs).
+_MAX_EXPONENT = 4
 _NUMBER = re.compile(r"^\s*([+-]?(?:\d+(?:\.\d*)?|\.\d+)(?:[eE][+-]?\d+)?)\s*(.*?)\s*$")
 
 
@@ -158,10 +165,16 @@ def dimension_name(dim: Dimension) -> str:
     return f"angle^{dim.angle}·length^{dim.length}·mass^{dim.mass}·time^{dim.time}"
 
 
+def known_units() -> tuple[str, ...]:
+    """Every unit symbol the table knows, sorted (compound units are built from these with ``*``, ``/``, ``^``)."""
+    return tuple(sorted(_SYMBOLS))
+
+
 def _normalise(text: str) -> str:
     for sup, plain in _SUPERSCRIPTS.items():
         text = text.replace(sup, plain)
-    text = text.replace("·", "*")
+    for times in _TIMES:
+        text = text.replace(times, "*")
     text = re.sub(r"\s*(\*\*|\*|/|\^)\s*", r"\1", text.strip())
     return re.sub(r"\s+", "*", text)
 
@@ -217,17 +230,19 @@ def parse_unit(text: str) -> tuple[float, Dimension]:
         if m is None:
             raise UnitError(f"malformed unit '{raw}' (could not read '{tok}')")
         symbol, exp_text = m.group(1), m.group(2)
-        if symbol not in _SYMBOLS:
-            hint = _SUGGEST.get(symbol)
-            if hint is None:
-                import difflib
-
-                close = difflib.get_close_matches(symbol, list(_SYMBOLS), n=1)
-                hint = close[0] if close else None
-            suffix = f"; did you mean '{hint}'?" if hint else f"; known units: {', '.join(sorted(_SYMBOLS))}"
-            raise UnitError(f"unknown unit '{symbol}' in '{raw}'{suffix}")
-        f, d = _SYMBOLS[symbol]
+        if symbol == "1":
+            f, d = 1.0, _NONE
+        elif symbol in _SYMBOLS:
+            f, d = _SYMBOLS[symbol]
+        else:
+            where = "" if symbol == raw else f" in '{raw}'"
+            hint = _suggest(symbol)
+            suffix = f"; did you mean '{hint}'?" if hint else f"; known units: {', '.join(known_units())}"
+            raise UnitError(f"unknown unit '{symbol}'{where}{suffix}")
         exponent = int(exp_text) if exp_text else 1
+        if abs(exponent) > _MAX_EXPONENT:
+            raise UnitError(f"malformed unit '{raw}': exponent {exponent} of '{symbol}' is out of range "
+                            f"(at most {_MAX_EXPONENT} either way)")
         if op == "/":
             exponent = -exponent
         factor *= f**exponent
@@ -236,6 +251,21 @@ def parse_unit(text: str) -> tuple[float, Dimension]:
     if expect_term:
         raise UnitError(f"malformed unit '{raw}'")
     return factor, dim
+
+
+def _suggest(symbol: str) -> str | None:
+    """The unit someone typing ``symbol`` probably meant: a known misspelling, the same letters in another
+    case (``KPa`` -> ``kPa``), or the closest symbol."""
+    hint = _SUGGEST.get(symbol)
+    if hint is not None:
+        return hint
+    same_letters = [known for known in _SYMBOLS if known.lower() == symbol.lower()]
+    if len(same_letters) == 1:
+        return same_letters[0]
+    import difflib
+
+    close = difflib.get_close_matches(symbol, list(_SYMBOLS), n=1)
+    return close[0] if close else None
 
 
 @dataclass(frozen=True, slots=True)
@@ -327,9 +357,10 @@ def parse_quantity(value: object, expected: str | None = None) -> Quantity:
         raise UnitError(
             f"wrong dimension: expected {expected} ({want[1]}), found '{value}' ({dimension_name(dim)})"
         )
-    if not math.isfinite(mag):
+    si = mag * factor
+    if not (math.isfinite(mag) and math.isfinite(si)):
         raise UnitError(f"not a finite number: '{value}'")
-    return Quantity(mag, unit_text, mag * factor, dim)
+    return Quantity(mag, unit_text, si, dim)
 
 
 def _example(expected: str | None) -> str:
