@@ -35,10 +35,10 @@ from bracer.protocol.quantities import (
     DirTorque,
     Force,
     Frequency,
-    Length,
     Pressure,
     Time,
     Torque,
+    quantity_or_word,
     unit_of,
 )
 from bracer.units import Quantity
@@ -83,6 +83,9 @@ Text = Annotated[str, StringConstraints(min_length=1, strip_whitespace=True)]
 Fraction = Annotated[float, Field(gt=0, lt=1)]
 
 T = TypeVar("T")
+
+#: A lever arm: a length, or the words 'not modelled' where the geometry is not known.
+LeverArm = quantity_or_word("length", "not modelled")
 
 
 class Strict(BaseModel):
@@ -163,42 +166,34 @@ class RomReference(Strict):
 
 
 class ChannelRef(Strict):
-    """A logged column, its unit and the stream (file / time base) it belongs to."""
+    """A logged column, its unit and the stream (file / time base) it belongs to.
+
+    The subclasses below fix the unit's dimension, so that a wrong unit is reported at the ``unit`` field.
+    """
 
     column: Text
     unit: str
     stream: Name = "main"
 
 
+class AngleChannel(ChannelRef):
+    unit: unit_of("angle")  # type: ignore[valid-type]
+
+
+class AngularSpeedChannel(ChannelRef):
+    unit: unit_of("angular speed")  # type: ignore[valid-type]
+
+
+class TorqueChannel(ChannelRef):
+    unit: unit_of("torque")  # type: ignore[valid-type]
+
+
 class JointChannels(Strict):
-    position: ChannelRef | None = None
-    velocity: ChannelRef | None = Field(
+    position: AngleChannel | None = None
+    velocity: AngularSpeedChannel | None = Field(
         None, description="Absent: speed is derived from position (Savitzky–Golay derivative)."
     )
-    torque: ChannelRef | None = None
-
-    @field_validator("position")
-    @classmethod
-    def _position_unit(cls, v: ChannelRef | None) -> ChannelRef | None:
-        return _check_unit(v, "angle")
-
-    @field_validator("velocity")
-    @classmethod
-    def _velocity_unit(cls, v: ChannelRef | None) -> ChannelRef | None:
-        return _check_unit(v, "angular speed")
-
-    @field_validator("torque")
-    @classmethod
-    def _torque_unit(cls, v: ChannelRef | None) -> ChannelRef | None:
-        return _check_unit(v, "torque")
-
-
-def _check_unit(ref: ChannelRef | None, dimension: str) -> ChannelRef | None:
-    if ref is not None:
-        from pydantic import TypeAdapter
-
-        TypeAdapter(unit_of(dimension)).validate_python(ref.unit)
-    return ref
+    torque: TorqueChannel | None = None
 
 
 class Joint(Strict):
@@ -252,7 +247,7 @@ class ForceChannel(Strict):
     columns: list[Text] | None = Field(None, min_length=2, max_length=3)
     use: Literal["magnitude", "axis"] = "magnitude"
     axis: Text | None = Field(None, description="With use: axis, the column that carries the normal force.")
-    unit: str
+    unit: unit_of("force")  # type: ignore[valid-type]
     stream: Name = "main"
 
     @model_validator(mode="after")
@@ -262,18 +257,11 @@ class ForceChannel(Strict):
         if self.use == "axis":
             if self.columns is None or self.axis not in self.columns:
                 raise ValueError("use: axis needs 'columns' and an 'axis' that is one of them")
-        _check_unit_text(self.unit, "force")
         return self
 
     @property
     def all_columns(self) -> list[str]:
         return [self.column] if self.column is not None else list(self.columns or [])
-
-
-def _check_unit_text(unit: str, dimension: str) -> None:
-    from pydantic import TypeAdapter
-
-    TypeAdapter(unit_of(dimension)).validate_python(unit)
 
 
 class ContactChannels(Strict):
@@ -285,7 +273,7 @@ class Contact(Strict):
     body_region: BodyRegion = Field(description="Body region loaded, as in ISO/TS 15066:2016 Annex A.")
     specific_area: Text | None = Field(None, description="Specific area of Table A.2, e.g. 'forearm muscle'.")
     area: Area = Field(description="Contact area of the cuff, strap or handle on the skin.")
-    lever_arms: dict[str, Length | Literal["not modelled"]] = Field(
+    lever_arms: dict[str, LeverArm] = Field(
         default_factory=dict,
         description="Distance from each joint axis that can load this contact to the contact's centre, "
         "or 'not modelled'.",
@@ -341,13 +329,7 @@ class StopFunction(Strict):
 
 class TimeChannel(Strict):
     column: Text
-    unit: str = "s"
-
-    @field_validator("unit")
-    @classmethod
-    def _unit(cls, v: str) -> str:
-        _check_unit_text(v, "time")
-        return v
+    unit: unit_of("time") = "s"  # type: ignore[valid-type]
 
 
 class Stream(Strict):

@@ -32,10 +32,21 @@ __all__ = [
     "Pressure",
     "Time",
     "Torque",
+    "exact_text",
+    "quantity_or_word",
     "unit_of",
 ]
 
 _PATTERN = r"^\s*[+-]?(\d+(\.\d*)?|\.\d+)([eE][+-]?\d+)?\s*\S.*$"
+
+
+def exact_text(q: Quantity) -> str:
+    """``"45 deg/s"``: the quantity as a protocol file would write it, with every digit needed to read back the
+    same number (``str(q)`` rounds to four significant digits for messages)."""
+    text = repr(float(q.magnitude))
+    if text.endswith(".0"):
+        text = text[:-2]
+    return f"{text} {q.unit}"
 
 
 def _quantity_type(dimension: str | None) -> Any:
@@ -54,7 +65,7 @@ def _quantity_type(dimension: str | None) -> Any:
     return Annotated[
         Quantity,
         PlainValidator(validate),
-        PlainSerializer(str, return_type=str),
+        PlainSerializer(exact_text, return_type=str),
         WithJsonSchema({"type": "string", "pattern": _PATTERN, "description": description}),
     ]
 
@@ -106,18 +117,25 @@ def _directional_type(dimension: str) -> Any:
             raise ValueError(f"{part}: {exc}" if part else str(exc)) from None
         if q.si <= 0:
             where = f"{part}: " if part else ""
-            raise ValueError(f"{where}a {dimension} limit is a magnitude and must be above zero, found '{value}'")
+            article = "an" if dimension[0] in "aeiou" else "a"
+            raise ValueError(
+                f"{where}{article} {dimension} limit is a magnitude and must be above zero, found '{value}'"
+            )
         return q
 
     def validate(value: object) -> Directional:
         if isinstance(value, Directional):
             return value
         if isinstance(value, Mapping):
-            extra = sorted(set(value) - {"positive", "negative"})
+            extra = sorted(map(str, set(value) - {"positive", "negative"}))
             if extra:
+                import difflib
+
+                hint = difflib.get_close_matches(extra[0], ["positive", "negative"], n=1, cutoff=0.6)
+                did = f"; did you mean '{hint[0]}'?" if hint else ""
                 raise ValueError(
                     f"unknown key(s) {', '.join(map(repr, extra))}: a per-direction limit takes 'positive' and "
-                    "'negative'"
+                    f"'negative'{did}"
                 )
             missing = [k for k in ("positive", "negative") if k not in value]
             if missing:
@@ -128,8 +146,8 @@ def _directional_type(dimension: str) -> Any:
 
     def serialise(d: Directional) -> Any:
         if d.symmetric:
-            return str(d.positive)
-        return {"positive": str(d.positive), "negative": str(d.negative)}
+            return exact_text(d.positive)
+        return {"positive": exact_text(d.positive), "negative": exact_text(d.negative)}
 
     quantity_schema = {"type": "string", "pattern": _PATTERN}
     return Annotated[
@@ -157,6 +175,38 @@ def _directional_type(dimension: str) -> Any:
 DirSpeed = _directional_type("angular speed")
 DirTorque = _directional_type("torque")
 DirAcceleration = _directional_type("angular acceleration")
+
+
+def quantity_or_word(dimension: str, word: str) -> Any:
+    """A field holding a quantity of ``dimension`` or the fixed text ``word`` (e.g. a length or 'not modelled').
+
+    One validator with one message, rather than a union whose branches would each report their own error.
+    """
+
+    def validate(value: object) -> Quantity | str:
+        if value == word:
+            return word
+        if isinstance(value, Quantity) and value.dimension == DIMENSIONS[dimension][0]:
+            return value
+        try:
+            return parse_quantity(value, dimension)
+        except UnitError as exc:
+            raise ValueError(f"{exc}; or write '{word}'") from None
+
+    def serialise(value: Quantity | str) -> str:
+        return exact_text(value) if isinstance(value, Quantity) else value
+
+    return Annotated[
+        Quantity | str,
+        PlainValidator(validate),
+        PlainSerializer(serialise, return_type=str),
+        WithJsonSchema(
+            {
+                "description": f"{dimension} with its unit ({DIMENSIONS[dimension][1]}), or '{word}'",
+                "anyOf": [{"type": "string", "pattern": _PATTERN}, {"const": word}],
+            }
+        ),
+    ]
 
 
 def unit_of(dimension: str) -> Any:

@@ -8,7 +8,7 @@ dates as strings).
 
 from __future__ import annotations
 
-from dataclasses import dataclass
+from dataclasses import dataclass, field
 from pathlib import Path
 from typing import Any
 
@@ -28,14 +28,28 @@ Loc = tuple[str | int, ...]
 
 @dataclass(frozen=True, slots=True)
 class Located:
-    """Plain data from a YAML file, with the (line, column) of every location in it (both 1-based)."""
+    """Plain data from a YAML file, with the (line, column) of every location in it (both 1-based).
+
+    ``positions`` maps a location (a tuple of mapping keys and list indices) to where it is named: the key of a
+    mapping entry, or the start of a list item (the document itself is at ``()``).  ``values`` maps it to where
+    its value starts, which for ``min: 130 deg`` is the ``130`` rather than the ``min``.
+    """
 
     data: Any
     positions: dict[Loc, tuple[int, int]]
     path: str
+    values: dict[Loc, tuple[int, int]] = field(default_factory=dict)
 
-    def where(self, loc: Loc) -> tuple[int | None, int | None]:
-        """Line and column of ``loc`` or, failing that, of its nearest enclosing location."""
+    def where(self, loc: Loc, *, value: bool = False) -> tuple[int | None, int | None]:
+        """Line and column of ``loc`` or, failing that, of its nearest enclosing location.
+
+        With ``value=True`` the position of the value at ``loc`` (where a message about a wrong value should
+        point); otherwise that of its key.
+        """
+        if value:
+            pos = self.values.get(tuple(loc))
+            if pos is not None:
+                return pos
         for n in range(len(loc), -1, -1):
             pos = self.positions.get(tuple(loc[:n]))
             if pos is not None:
@@ -44,6 +58,10 @@ class Located:
 
 
 _MAX_BYTES = 5_000_000
+#: Deepest nesting a protocol file may have (the format itself needs fewer than ten levels).
+MAX_DEPTH = 64
+#: Most values a file may expand to; YAML aliases can make a small file expand exponentially.
+MAX_VALUES = 50_000
 
 
 def load_yaml(path: str | Path) -> Located:
@@ -53,7 +71,8 @@ def load_yaml(path: str | Path) -> Located:
     ------
     InputError
         The file is missing, unreadable, not UTF-8 text, empty, not valid YAML, holds several documents,
-        or has a duplicate mapping key.
+        has a duplicate or merge key, an alias loop, or nests or expands beyond :data:`MAX_DEPTH` /
+        :data:`MAX_VALUES`.
     """
     p = Path(path)
     name = str(path)
@@ -85,7 +104,15 @@ def load_yaml(path: str | Path) -> Located:
     except yaml.MarkedYAMLError as exc:
         mark = exc.problem_mark or exc.context_mark
         problem = exc.problem or "invalid YAML"
-        context = f" ({exc.context})" if exc.context else ""
+        context = ""
+        if exc.context:
+            started = exc.context_mark
+            if started is not None and mark is not None and started.line != mark.line:
+                context = f" ({exc.context} started on line {started.line + 1}, column {started.column + 1})"
+            else:
+                context = f" ({exc.context})"
+        if _tab_at(text, mark):
+            context += "; YAML indentation must use spaces, and this file has a tab character here"
         raise InputError.single(
             f"YAML syntax error: {problem}{context}",
             name,
@@ -100,44 +127,89 @@ def load_yaml(path: str | Path) -> Located:
     if len(nodes) > 1:
         second = nodes[1].start_mark
         raise InputError.single(
-            "several YAML documents in one file; a protocol file holds exactly one",
+            "a second YAML document starts here (after a '---' line); a protocol file holds exactly one",
             name,
             second.line + 1,
             second.column + 1,
         )
-    positions: dict[Loc, tuple[int, int]] = {}
-    data = _build(nodes[0], (), positions, name)
-    return Located(data, positions, name)
+    builder = _Builder(name)
+    data = builder.build(nodes[0], ())
+    return Located(data, builder.positions, name, builder.values)
 
 
-def _build(node: yaml.Node, loc: Loc, positions: dict[Loc, tuple[int, int]], name: str) -> Any:
-    positions.setdefault(loc, (node.start_mark.line + 1, node.start_mark.column + 1))
-    if isinstance(node, yaml.MappingNode):
+def _tab_at(text: str, mark: Any) -> bool:
+    """Whether the character at a YAML error mark (or the indentation of its line) is a tab."""
+    if mark is None:
+        return False
+    lines = text.splitlines()
+    if not 0 <= mark.line < len(lines):
+        return False
+    line = lines[mark.line]
+    indent = line[: len(line) - len(line.lstrip())]
+    return "\t" in indent or line[mark.column : mark.column + 1] == "\t"
+
+
+def _mark(node: yaml.Node) -> tuple[int, int]:
+    return node.start_mark.line + 1, node.start_mark.column + 1
+
+
+class _Builder:
+    """Builds plain values from a composed node tree, recording positions, refusing what a protocol must not
+    hold: duplicate keys, merge keys, non-scalar keys, aliases that contain themselves, nesting deeper than
+    :data:`MAX_DEPTH` and expansion beyond :data:`MAX_VALUES` values."""
+
+    def __init__(self, name: str) -> None:
+        self.name = name
+        self.positions: dict[Loc, tuple[int, int]] = {}
+        self.values: dict[Loc, tuple[int, int]] = {}
+        self.count = 0
+        self.open: set[int] = set()  # ids of the collection nodes being built (to catch recursive aliases)
+
+    def fail(self, message: str, node: yaml.Node, loc: Loc) -> InputError:
+        line, col = _mark(node)
+        field = _dotted(loc[:6]) if len(loc) <= 6 else f"{_dotted(loc[:6])}..."
+        return InputError.single(message, self.name, line, col, field)
+
+    def build(self, node: yaml.Node, loc: Loc) -> Any:
+        self.positions.setdefault(loc, _mark(node))
+        self.values.setdefault(loc, _mark(node))
+        self.count += 1
+        if self.count > MAX_VALUES:
+            raise self.fail(
+                f"the file expands to more than {MAX_VALUES:,} values (YAML aliases repeating large parts?); "
+                "a protocol file is far smaller", node, loc,
+            )
+        if isinstance(node, yaml.ScalarNode):
+            return _scalar(node)
+        if len(loc) >= MAX_DEPTH:
+            raise self.fail(f"nested more than {MAX_DEPTH} levels deep; a protocol file needs far fewer", node, loc)
+        if id(node) in self.open:
+            raise self.fail("a YAML alias here refers to a collection that contains it (a loop)", node, loc)
+        self.open.add(id(node))
+        try:
+            if isinstance(node, yaml.MappingNode):
+                return self._mapping(node, loc)
+            return [self.build(item, (*loc, i)) for i, item in enumerate(node.value)]
+        finally:
+            self.open.discard(id(node))
+
+    def _mapping(self, node: yaml.MappingNode, loc: Loc) -> dict[str, Any]:
         out: dict[str, Any] = {}
         for key_node, value_node in node.value:
             if not isinstance(key_node, yaml.ScalarNode):
-                raise InputError.single(
-                    "mapping keys must be plain names", name, key_node.start_mark.line + 1,
-                    key_node.start_mark.column + 1, _dotted(loc),
-                )
+                raise self.fail("mapping keys must be plain names", key_node, loc)
             if key_node.tag == "tag:yaml.org,2002:merge":
-                raise InputError.single(
-                    "YAML merge keys ('<<') are not supported in protocol files; write the fields out",
-                    name, key_node.start_mark.line + 1, key_node.start_mark.column + 1, _dotted(loc),
+                raise self.fail(
+                    "YAML merge keys ('<<') are not supported in protocol files; write the fields out", key_node, loc
                 )
             key = str(key_node.value)
             if key in out:
-                first = positions.get((*loc, key), (None, None))[0]
-                raise InputError.single(
-                    f"duplicate key '{key}' (first defined on line {first})",
-                    name, key_node.start_mark.line + 1, key_node.start_mark.column + 1, _dotted(loc),
-                )
-            positions[(*loc, key)] = (key_node.start_mark.line + 1, key_node.start_mark.column + 1)
-            out[key] = _build(value_node, (*loc, key), positions, name)
+                first = self.positions.get((*loc, key), (None, None))[0]
+                raise self.fail(f"duplicate key '{key}' (first defined on line {first})", key_node, loc)
+            self.positions[(*loc, key)] = _mark(key_node)
+            self.values[(*loc, key)] = _mark(value_node)
+            out[key] = self.build(value_node, (*loc, key))
         return out
-    if isinstance(node, yaml.SequenceNode):
-        return [_build(item, (*loc, i), positions, name) for i, item in enumerate(node.value)]
-    return _scalar(node)
 
 
 def _scalar(node: yaml.ScalarNode) -> Any:
