@@ -467,6 +467,11 @@ class Effect(Strict):
             raise ValueError(f"a contact's quantity is force, pressure or sustained, found '{self.quantity}'")
         if self.measured_minus is not None and self.quantity != "range":
             raise ValueError("'measured_minus' applies to range limits only")
+        if self.measured_minus is not None and self.measured_minus.si < 0:
+            raise ValueError(
+                f"'measured_minus' is a margin inside the measured range and cannot be negative, "
+                f"found '{self.measured_minus}'"
+            )
         return self
 
     @property

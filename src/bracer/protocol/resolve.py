@@ -243,9 +243,23 @@ def _apply(
         limits[eff.quantity] = group.model_copy(update={item: after})
 
 
-def _apply_range(state, protocol, participant, eff, kind, source, current: Bounds, problem) -> Bounds | None:  # type: ignore[no-untyped-def]
-    target = eff.joint
-    new_min, new_max = current.min, current.max
+def _apply_range(
+    state: _State,
+    protocol: Protocol,
+    participant: Participant,
+    eff: Effect,
+    kind: Literal["caution", "override"],
+    source: str,
+    current: Bounds,
+    problem: Any,
+) -> Bounds | None:
+    """The new bounds of one range layer, or None when the effect cannot be applied (a problem is recorded).
+
+    Inward is tighter: down for the max end (positive direction), up for the min end (negative direction).
+    The changes are recorded only once the resulting range is known to be non-empty.
+    """
+    target = eff.joint or ""
+    proposed: list[tuple[str, Quantity, Quantity, bool]] = []  # direction, before, after, tighter
     for direction in _directions(eff.direction):
         before = current.get(direction)
         if eff.measured_minus is not None:
@@ -261,20 +275,32 @@ def _apply_range(state, protocol, participant, eff, kind, source, current: Bound
             if eff.set is not None and eff.direction == "both":
                 problem("a range 'set' needs a direction (positive for the max end, negative for the min end)")
                 return None
-            after = _new_value(eff, before, "angle", problem)
-            if after is None:
+            maybe = _new_value(eff, before, "angle", problem)
+            if maybe is None:
                 return None
-        # Inward is tighter: down for the max end, up for the min end.
+            after = maybe
         tighter = after.si <= before.si if direction == "positive" else after.si >= before.si
-        if _record(state, eff, kind, source, "joint", target, f"{eff.layer}.{'max' if direction == 'positive' else 'min'}",
-                   before, after, tighter=tighter):
+        proposed.append((direction, before, after, tighter))
+
+    new_min, new_max = current.min, current.max
+    for direction, _before, after, tighter in proposed:
+        if kind == "override" or tighter:
             if direction == "positive":
                 new_max = after
             else:
                 new_min = after
     if not new_min.si < new_max.si:
-        problem(f"would leave an empty {eff.layer} range [{new_min}, {new_max}] for joint '{target}'")
+        problem(f"would leave an empty {eff.layer} range [{new_min}, {new_max}] for joint '{target}'; "
+                "the limit was left unchanged")
         return None
+    new_min, new_max = current.min, current.max
+    for direction, before, after, tighter in proposed:
+        end = "max" if direction == "positive" else "min"
+        if _record(state, eff, kind, source, "joint", target, f"{eff.layer}.{end}", before, after, tighter=tighter):
+            if direction == "positive":
+                new_max = after
+            else:
+                new_min = after
     return Bounds.model_construct(min=new_min, max=new_max)
 
 
