@@ -7,17 +7,19 @@ from typing import Any, Literal
 
 from bracer.findings import Check, Finding, Kind, Severity
 from bracer.protocol.model import Joint
-from bracer.units import format_number, parse_unit
+from bracer.units import Quantity, format_number, parse_unit
 
 __all__ = [
     "DIRECTIONS",
     "CheckResult",
+    "difference",
     "Direction",
     "SubjectKind",
     "end_label",
     "fmt",
     "in_unit",
     "review_finding",
+    "value_in",
 ]
 
 Direction = Literal["positive", "negative"]
@@ -83,6 +85,16 @@ def in_unit(si: float, unit: str) -> float:
     """Express an internal (SI, rad) value in ``unit``."""
     factor, _ = parse_unit(unit)
     return si / factor
+
+
+def value_in(q: Quantity, unit: str) -> float:
+    """``q`` in ``unit``: the declared magnitude itself when ``q`` was declared in ``unit`` (no round trip)."""
+    return q.magnitude if q.unit == unit else in_unit(q.si, unit)
+
+
+def difference(a: Quantity, b: Quantity, unit: str) -> float:
+    """``a − b`` in ``unit``, from the declared magnitudes when both were declared in ``unit``."""
+    return value_in(a, unit) - value_in(b, unit)
 
 
 def fmt(value: float | None, unit: str | None = None) -> str:

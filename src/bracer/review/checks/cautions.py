@@ -17,7 +17,7 @@ from typing import Any
 
 from bracer.findings import Check, Finding, Severity, register
 from bracer.protocol.resolve import Change, Resolution
-from bracer.review.checks._base import CheckResult, SubjectKind, fmt, in_unit, review_finding
+from bracer.review.checks._base import CheckResult, SubjectKind, fmt, review_finding, value_in
 
 __all__ = ["CHECK", "CautionRow", "CautionsResult", "ChangeRow", "run"]
 
@@ -75,7 +75,7 @@ class CautionsResult(CheckResult):
 def _row(change: Change) -> ChangeRow:
     unit = change.before.unit
     return ChangeRow(change.target_kind, change.target, change.quantity, change.part,
-                     in_unit(change.before.si, unit), in_unit(change.after.si, unit), unit, change.applied,
+                     change.before.magnitude, value_in(change.after, unit), unit, change.applied,
                      change.loosens, change.justification, change.note)
 
 

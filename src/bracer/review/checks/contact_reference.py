@@ -112,9 +112,9 @@ def reference_for(contact: Contact) -> tuple[RegionReference | None, str | None]
     else:
         areas = [r.specific_area for r in rows]
         hint = difflib.get_close_matches(wanted, areas, n=1, cutoff=0.6)
-        did = f"; did you mean '{hint[0]}'?" if hint else f" (areas of this region: {', '.join(areas)})"
+        did = f" (did you mean '{hint[0]}'?)" if hint else f" (areas of this region: {', '.join(areas)})"
         note = (f"specific area '{contact.specific_area}' is not in the reference table for region "
-                f"'{contact.body_region}'{did}; the lowest reference pressure of the region "
+                f"'{contact.body_region}'{did}, so the lowest reference pressure of the region "
                 f"({lowest.specific_area}, {fmt(lowest.pressure_n_per_cm2, _PRESSURE_UNIT)}) is used (conservative)")
     return _region(lowest, rows, matched=False), note
 
@@ -185,8 +185,8 @@ def _contact(findings: list[Finding], name: str, contact: Contact) -> list[Conta
                 extra=(("item", item), ("basis", basis)))
         elif ratio is not None and ratio > 1:
             add(Severity.WARNING,
-                f"contact '{name}': the {what} ({fmt(row.value, unit)}) is {ratio:.2f}× the reference value for "
-                f"{ref.region.replace('_', ' ')}, {area_label} ({fmt(row.reference, unit)}); these are {CAVEAT}",
+                f"contact '{name}': the {what} ({fmt(row.value, unit)}) is {ratio:.2f}× the reference value of "
+                f"{fmt(row.reference, unit)} for region '{ref.region}', {area_label}; these are {CAVEAT}",
                 quantity=quantity, value=row.value, limit=row.reference,
                 margin=row.reference - row.value, unit=unit,
                 extra=(("item", item), ("basis", basis), ("ratio", ratio)))

@@ -20,7 +20,16 @@ from typing import Any, Literal
 from bracer.findings import Check, Finding, Severity, register
 from bracer.protocol.model import LAYERS, Joint
 from bracer.protocol.resolve import ParticipantRange, Resolution, participant_range
-from bracer.review.checks._base import DIRECTIONS, CheckResult, Direction, end_label, fmt, in_unit, review_finding
+from bracer.review.checks._base import (
+    DIRECTIONS,
+    CheckResult,
+    Direction,
+    difference,
+    end_label,
+    fmt,
+    review_finding,
+    value_in,
+)
 from bracer.units import Quantity
 
 __all__ = ["CHECK", "LayerMargin", "LayerOrderResult", "Protection", "run"]
@@ -131,9 +140,9 @@ def _layers(findings: list[Finding], name: str, joint: Joint, direction: Directi
         unit = values[0][1].unit
         sign = _outward(quantity, direction)
         for (inner_layer, inner), (outer_layer, outer) in zip(values, values[1:], strict=False):
-            margin = in_unit(sign * (outer.si - inner.si), unit)
-            row = LayerMargin(name, quantity, direction, inner_layer, outer_layer, in_unit(inner.si, unit),
-                              in_unit(outer.si, unit), margin, unit, margin >= 0)
+            margin = sign * difference(outer, inner, unit)
+            row = LayerMargin(name, quantity, direction, inner_layer, outer_layer, value_in(inner, unit),
+                              value_in(outer, unit), margin, unit, margin >= 0)
             rows.append(row)
             if margin < 0:
                 findings.append(review_finding(
@@ -163,7 +172,7 @@ def _participant(
 
     def value(layer: str) -> float | None:
         q = by_layer.get(layer)
-        return in_unit(q.si, unit) if q is not None else None
+        return value_in(q, unit) if q is not None else None
 
     if limit is None:
         findings.append(review_finding(
@@ -176,9 +185,9 @@ def _participant(
                           unit, None, "not assessable", "no participant range in this direction")
         return prot, []
 
-    rom_value = in_unit(limit.si, unit)
-    margin = in_unit(sign * (limit.si - inner.si), unit)
-    row = LayerMargin(name, "range", direction, inner_layer, "participant", in_unit(inner.si, unit), rom_value,
+    rom_value = value_in(limit, unit)
+    margin = sign * difference(limit, inner, unit)
+    row = LayerMargin(name, "range", direction, inner_layer, "participant", value_in(inner, unit), rom_value,
                       margin, unit, margin >= 0)
     if margin < 0:
         severity = Severity.ERROR if source == "measured" else Severity.WARNING
@@ -197,7 +206,7 @@ def _participant(
         note = "no mechanical end stop declared"
         detail = "no mechanical end stop is declared"
     else:
-        beyond = in_unit(sign * (mechanical.si - limit.si), unit)
+        beyond = sign * difference(mechanical, limit, unit)
         layers = "controller only" if beyond > 0 else "controller and mechanical stop"
         note = (f"mechanical end stop {fmt(beyond, unit)} beyond the participant's range" if beyond > 0
                 else "mechanical end stop at or inside the participant's range")
@@ -206,7 +215,7 @@ def _participant(
     if layers == "controller only":
         device = by_layer.get("device")
         also = ""
-        if device is not None and sign * (device.si - limit.si) > 0:
+        if device is not None and sign * difference(device, limit, unit) > 0:
             also = "; the device limit lies beyond that range too, so only the planned limit keeps the joint inside it"
         findings.append(review_finding(
             CHECK, Severity.WARNING,

@@ -27,7 +27,17 @@ from bracer.findings import Check, Finding, Severity, register
 from bracer.protocol.model import LAYERS, Joint, StopFunction
 from bracer.protocol.resolve import Resolution, participant_range
 from bracer.review import physics
-from bracer.review.checks._base import DIRECTIONS, CheckResult, Direction, end_label, fmt, in_unit, review_finding
+from bracer.review.checks._base import (
+    DIRECTIONS,
+    CheckResult,
+    Direction,
+    difference,
+    end_label,
+    fmt,
+    in_unit,
+    review_finding,
+    value_in,
+)
 from bracer.units import Quantity
 
 __all__ = ["CHECK", "RoomToStopResult", "StopRoom", "run"]
@@ -142,10 +152,11 @@ def _joint(findings: list[Finding], resolution: Resolution, name: str, joint: Jo
         d_si = physics.stopping_distance(v.si, t.si, a.si)
         sign = -1.0 if direction == "negative" else 1.0
 
-        def room(outer_si: float, inner_si: float) -> tuple[float, bool, float | None]:
-            r = sign * (outer_si - inner_si)
-            largest = physics.largest_speed_within_distance(r, t.si, a.si) if r >= 0 else None
-            return r, d_si <= r, largest
+        def room(outer: Quantity, inner: Quantity) -> tuple[float, bool, float | None]:
+            """Room in ``unit`` (from the declared magnitudes where possible), whether d fits, largest speed."""
+            r_si = sign * (outer.si - inner.si)
+            largest = physics.largest_speed_within_distance(r_si, t.si, a.si) if r_si >= 0 else None
+            return sign * difference(outer, inner, unit), d_si <= r_si, largest
 
         range_layer = outer_layer = None
         room_outer = largest_outer = None
@@ -155,23 +166,23 @@ def _joint(findings: list[Finding], resolution: Resolution, name: str, joint: Jo
             inner = inner_bounds.get(direction)
             if len(range_layers) > 1:
                 outer_layer, outer_bounds = range_layers[1]
-                room_outer, fits_outer, largest_outer = room(outer_bounds.get(direction).si, inner.si)
+                room_outer, fits_outer, largest_outer = room(outer_bounds.get(direction), inner)
         rom_q, rom_source = rom.get(direction)
         room_p = largest_p = None
         fits_p: bool | None = None
         if range_layers and rom_q is not None:
-            room_p, fits_p, largest_p = room(rom_q.si, inner.si)
+            room_p, fits_p, largest_p = room(rom_q, inner)
 
         stop_time = physics.stopping_time(v.si, t.si, a.si)
         row = StopRoom(
-            joint=name, direction=direction, speed_layer=speed_layer, speed=in_unit(v.si, v.unit), speed_unit=v.unit,
-            reaction_time=in_unit(t.si, budget.unit), deceleration=in_unit(a.si, a.unit), deceleration_unit=a.unit,
+            joint=name, direction=direction, speed_layer=speed_layer, speed=v.magnitude, speed_unit=v.unit,
+            reaction_time=value_in(t, budget.unit), deceleration=a.magnitude, deceleration_unit=a.unit,
             distance=in_unit(d_si, unit), distance_unit=unit, range_layer=range_layer, outer_layer=outer_layer,
-            room_outer=_maybe(room_outer, unit), fits_outer=fits_outer,
+            room_outer=room_outer, fits_outer=fits_outer,
             largest_speed_outer=_maybe(largest_outer, v.unit), participant_source=rom_source if room_p is not None
-            else None, room_participant=_maybe(room_p, unit), fits_participant=fits_p,
+            else None, room_participant=room_p, fits_participant=fits_p,
             largest_speed_participant=_maybe(largest_p, v.unit), stop_time=in_unit(stop_time, budget.unit),
-            budget=in_unit(budget.si, budget.unit), time_unit=budget.unit, within_budget=stop_time <= budget.si,
+            budget=budget.magnitude, time_unit=budget.unit, within_budget=stop_time <= budget.si,
             largest_speed_budget=in_unit(physics.largest_speed_within_time(budget.si, t.si, a.si), v.unit),
         )
         rows.append(row)
@@ -223,5 +234,5 @@ def _diff(a: float | None, b: float) -> float | None:
 
 def _largest(speed: float | None, unit: str) -> str:
     if speed is None:
-        return "; there is no room at all (the limit already lies beyond it)"
+        return "; there is no room at all: the limit already lies beyond it"
     return f"; the largest speed that stops in time is {fmt(speed, unit)}"
