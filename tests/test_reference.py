@@ -9,6 +9,7 @@ from __future__ import annotations
 
 import csv
 import math
+from pathlib import Path
 
 import pytest
 
@@ -21,6 +22,7 @@ from bracer.reference import (
     sha256,
     table_paths,
 )
+from bracer.resources import data_dir
 from bracer.units import parse_quantity
 
 CONFIDENCE_MARKS = {"C1", "C2", "M"}
@@ -28,17 +30,23 @@ CONFIDENCE_MARKS = {"C1", "C2", "M"}
 # ------------------------------------------------------------------------------ every row is sourced
 
 
-@pytest.mark.parametrize("name", ["upper_limb_rom.csv", "iso_ts_15066_force_pressure.csv",
-                                  "iso_ts_15066_body_model.csv"])
-def test_every_row_has_a_source_and_a_confidence_mark(name: str) -> None:
-    path = table_paths()[name]
+@pytest.mark.parametrize("path", sorted(data_dir("limits").glob("*.csv")), ids=lambda p: p.name)
+def test_every_row_has_a_source_and_a_confidence_mark(path: Path) -> None:
+    # Every table in limits/, including ones added later: a value without a source or a mark is not a reference.
     lines = [ln for ln in path.read_text(encoding="utf-8").splitlines() if ln.strip() and not ln.startswith("#")]
     rows = list(csv.DictReader(lines))
-    assert rows, name
+    assert rows, path.name
+    marks = [c for c in rows[0] if c == "confidence" or c.endswith("_confidence")]
+    assert "confidence" in marks and "source" in rows[0], path.name
     for row in rows:
-        assert row["confidence"] in CONFIDENCE_MARKS, row
+        assert all(row[c] in CONFIDENCE_MARKS for c in marks), row
         assert row["source"].strip(), row
         assert None not in row and all(v is not None and v.strip() for v in row.values()), row  # no ragged row
+
+
+def test_the_three_review_tables_are_listed() -> None:
+    assert set(table_paths()) == {"upper_limb_rom.csv", "iso_ts_15066_force_pressure.csv",
+                                  "iso_ts_15066_body_model.csv"}
 
 
 def test_tables_load_through_the_reference_module() -> None:
