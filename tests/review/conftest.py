@@ -31,27 +31,42 @@ def _base() -> dict[str, Any]:
     """
     return {
         "bracer_protocol": 1,
-        "protocol": {"id": "T-1", "version": "1", "date": "2027-01-01", "title": "review test protocol",
-                     "population": "adults (test)", "roles": ["responsible clinician"]},
+        "protocol": {
+            "id": "T-1",
+            "version": "1",
+            "date": "2027-01-01",
+            "title": "review test protocol",
+            "population": "adults (test)",
+            "roles": ["responsible clinician"],
+        },
         "device": {"name": "test rig (invented)", "kind": "upper-limb exoskeleton"},
         "joints": {
             "elbow": {
-                "motion": "elbow flexion–extension", "positive": "flexion", "negative": "extension",
+                "motion": "elbow flexion–extension",
+                "positive": "flexion",
+                "negative": "extension",
                 "reference": {"positive": "elbow flexion", "negative": "elbow extension"},
-                "range": {"planned": {"min": "20 deg", "max": "120 deg"},
-                          "device": {"min": "10 deg", "max": "130 deg"},
-                          "mechanical": {"min": "5 deg", "max": "140 deg"}},
+                "range": {
+                    "planned": {"min": "20 deg", "max": "120 deg"},
+                    "device": {"min": "10 deg", "max": "130 deg"},
+                    "mechanical": {"min": "5 deg", "max": "140 deg"},
+                },
                 "speed": {"planned": "30 deg/s", "device": "60 deg/s"},
                 "torque": {"planned": "5 N*m", "device": "8 N*m"},
                 "stop_deceleration": "1000 deg/s^2",
-                "channels": {"position": {"column": "elb_pos", "unit": "deg"},
-                             "velocity": {"column": "elb_vel", "unit": "deg/s"},
-                             "torque": {"column": "elb_tau", "unit": "N*m"}},
+                "channels": {
+                    "position": {"column": "elb_pos", "unit": "deg"},
+                    "velocity": {"column": "elb_vel", "unit": "deg/s"},
+                    "torque": {"column": "elb_tau", "unit": "N*m"},
+                },
             },
         },
         "contacts": {
             "cuff": {
-                "kind": "cuff", "body_region": "lower_arm_wrist", "specific_area": "forearm muscle", "area": "30 cm^2",
+                "kind": "cuff",
+                "body_region": "lower_arm_wrist",
+                "specific_area": "forearm muscle",
+                "area": "30 cm^2",
                 "lever_arms": {"elbow": "0.2 m"},
                 "force": {"quasi_static": "50 N", "transient": "75 N"},
                 "pressure": {"quasi_static": "3 N/cm^2"},
@@ -59,13 +74,24 @@ def _base() -> dict[str, Any]:
                 "channels": {"force": {"column": "cuff_f", "unit": "N"}},
             },
         },
-        "stop": {"category": 1, "latency_budget": "300 ms", "reaction_time": "30 ms",
-                 "standstill": {"speed": "2 deg/s", "hold": "50 ms"}},
-        "logging": {"streams": {"main": {"time": {"column": "t"}, "sample_rate": "1000 Hz"}},
-                    "triggers": {"emergency_stop": {"column": "estop", "active": [1]}}},
+        "stop": {
+            "category": 1,
+            "latency_budget": "300 ms",
+            "reaction_time": "30 ms",
+            "standstill": {"speed": "2 deg/s", "hold": "50 ms"},
+        },
+        "logging": {
+            "streams": {"main": {"time": {"column": "t"}, "sample_rate": "1000 Hz"}},
+            "triggers": {"emergency_stop": {"column": "estop", "active": [1]}},
+        },
         "cautions": {},
-        "participants": {"P1": {"rom": {"elbow": {"min": "0 deg", "max": "145 deg", "date": "2027-01-02",
-                                                  "method": "goniometry"}}}},
+        "participants": {
+            "P1": {
+                "rom": {
+                    "elbow": {"min": "0 deg", "max": "145 deg", "date": "2027-01-02", "method": "goniometry"}
+                }
+            }
+        },
     }
 
 
@@ -92,8 +118,11 @@ def resolved(patch: dict[str, Any] | None = None, participant: str | None = "P1"
 
 def keyset(findings: tuple[Finding, ...], min_severity: Severity = Severity.INFO) -> set[tuple[Any, ...]]:
     """(code, severity label, subject, quantity, direction, layer) of each finding at or above a severity."""
-    return {(f.code, f.severity.label, f.subject, f.quantity, f.direction, f.layer)
-            for f in findings if f.severity >= min_severity}
+    return {
+        (f.code, f.severity.label, f.subject, f.quantity, f.direction, f.layer)
+        for f in findings
+        if f.severity >= min_severity
+    }
 
 
 @dataclass(frozen=True)

@@ -3,13 +3,20 @@
 from __future__ import annotations
 
 import pytest
-from conftest import keyset, resolved
 
 from bracer.review.checks import cautions
+from conftest import keyset, resolved
 
-SLOW = {"cautions": {"slow": {"text": "Move slowly.", "population": "test population",
-                              "effects": [{"joint": "elbow", "quantity": "speed", "scale": 0.5}]}},
-        "participants": {"P1": {"cautions": ["slow"]}}}
+SLOW = {
+    "cautions": {
+        "slow": {
+            "text": "Move slowly.",
+            "population": "test population",
+            "effects": [{"joint": "elbow", "quantity": "speed", "scale": 0.5}],
+        }
+    },
+    "participants": {"P1": {"cautions": ["slow"]}},
+}
 
 
 def run(patch=None, participant="P1"):  # type: ignore[no-untyped-def]
@@ -22,13 +29,22 @@ def test_applied_caution_lists_every_change() -> None:
     (row,) = result.sources
     assert (row.source_kind, row.source, row.text, row.applied) == ("caution", "slow", "Move slowly.", True)
     assert [(c.part, c.before, c.after, c.unit, c.applied) for c in row.changes] == [
-        ("planned.positive", 30.0, 15.0, "deg/s", True), ("planned.negative", 30.0, 15.0, "deg/s", True)]
+        ("planned.positive", 30.0, 15.0, "deg/s", True),
+        ("planned.negative", 30.0, 15.0, "deg/s", True),
+    ]
 
 
 def test_change_not_applied_because_already_tighter() -> None:
-    patch = {"cautions": {"loose": {"text": "x", "population": "y",
-                                    "effects": [{"contact": "cuff", "quantity": "force", "set": "80 N"}]}},
-             "participants": {"P1": {"cautions": ["loose"]}}}
+    patch = {
+        "cautions": {
+            "loose": {
+                "text": "x",
+                "population": "y",
+                "effects": [{"contact": "cuff", "quantity": "force", "set": "80 N"}],
+            }
+        },
+        "participants": {"P1": {"cautions": ["loose"]}},
+    }
     result = run(patch)
     assert result.findings == ()
     (change,) = result.sources[0].changes
@@ -37,24 +53,44 @@ def test_change_not_applied_because_already_tighter() -> None:
 
 
 def test_after_is_given_in_the_unit_of_the_limit_before() -> None:
-    patch = {"cautions": {"c": {"text": "x", "population": "y",
-                                "effects": [{"joint": "elbow", "quantity": "range", "direction": "positive",
-                                             "set": "2 rad"}]}},
-             "participants": {"P1": {"cautions": ["c"]}}}
+    patch = {
+        "cautions": {
+            "c": {
+                "text": "x",
+                "population": "y",
+                "effects": [{"joint": "elbow", "quantity": "range", "direction": "positive", "set": "2 rad"}],
+            }
+        },
+        "participants": {"P1": {"cautions": ["c"]}},
+    }
     (change,) = run(patch).sources[0].changes
     assert change.unit == "deg" and change.after == pytest.approx(2 * 180 / 3.141592653589793)
 
 
 def test_caution_on_an_undeclared_layer_is_an_error() -> None:
-    patch = {"cautions": {"tremor": {"text": "x", "population": "y",
-                                     "effects": [{"joint": "elbow", "quantity": "acceleration", "scale": 0.5}]}},
-             "participants": {"P1": {"cautions": ["tremor"]}}}
+    patch = {
+        "cautions": {
+            "tremor": {
+                "text": "x",
+                "population": "y",
+                "effects": [{"joint": "elbow", "quantity": "acceleration", "scale": 0.5}],
+            }
+        },
+        "participants": {"P1": {"cautions": ["tremor"]}},
+    }
     assert keyset(run(patch).findings) == {("R106", "error", "elbow", None, None, None)}
 
 
 def test_loosening_override_without_justification_is_an_error() -> None:
-    patch = {"participants": {"P1": {"overrides": [{"joint": "elbow", "quantity": "speed", "direction": "positive",
-                                                    "set": "40 deg/s"}]}}}
+    patch = {
+        "participants": {
+            "P1": {
+                "overrides": [
+                    {"joint": "elbow", "quantity": "speed", "direction": "positive", "set": "40 deg/s"}
+                ]
+            }
+        }
+    }
     result = run(patch)
     assert keyset(result.findings) == {("R106", "error", "elbow", None, None, None)}
     (row,) = result.sources
@@ -62,8 +98,21 @@ def test_loosening_override_without_justification_is_an_error() -> None:
 
 
 def test_loosening_override_with_justification_is_still_a_warning() -> None:
-    patch = {"participants": {"P1": {"overrides": [{"joint": "elbow", "quantity": "speed", "direction": "positive",
-                                                    "set": "40 deg/s", "justification": "approved by the clinician"}]}}}
+    patch = {
+        "participants": {
+            "P1": {
+                "overrides": [
+                    {
+                        "joint": "elbow",
+                        "quantity": "speed",
+                        "direction": "positive",
+                        "set": "40 deg/s",
+                        "justification": "approved by the clinician",
+                    }
+                ]
+            }
+        }
+    }
     result = run(patch)
     assert keyset(result.findings) == {("R106", "warning", "elbow", "speed", None, "planned")}
     (f,) = result.findings
@@ -72,15 +121,19 @@ def test_loosening_override_with_justification_is_still_a_warning() -> None:
 
 
 def test_tightening_override_is_listed_without_finding() -> None:
-    patch = {"participants": {"P1": {"overrides": [{"joint": "elbow", "quantity": "torque", "set": "4 N*m"}]}}}
+    patch = {
+        "participants": {"P1": {"overrides": [{"joint": "elbow", "quantity": "torque", "set": "4 N*m"}]}}
+    }
     result = run(patch)
     assert result.findings == ()
     assert [c.after for c in result.sources[0].changes] == [4.0, 4.0]
 
 
 def test_caution_without_effects_is_info() -> None:
-    patch = {"cautions": {"talk": {"text": "Explain each movement first.", "population": "all"}},
-             "participants": {"P1": {"cautions": ["talk"]}}}
+    patch = {
+        "cautions": {"talk": {"text": "Explain each movement first.", "population": "all"}},
+        "participants": {"P1": {"cautions": ["talk"]}},
+    }
     assert keyset(run(patch).findings) == {("R106", "info", None, "caution", None, None)}
 
 

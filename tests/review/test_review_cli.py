@@ -9,18 +9,28 @@ import sys
 from pathlib import Path
 
 import pytest
-from conftest import EXAMPLE, FLAWED
 
 from bracer.reference import table_paths
+from conftest import EXAMPLE, FLAWED
 
 
 def test_example_exits_0_and_shows_every_section(cli) -> None:  # type: ignore[no-untyped-def]
     ran = cli("review", EXAMPLE)
     assert ran.code == 0, ran.stderr
     out = ran.stdout
-    for line in ("bracer · pre-trial review", "AVRU-EXO-01", "nominal protocol", "JOINT shoulder_flexion",
-                 "JOINT forearm_rotation", "CONTACT upper_arm_cuff", "CONTACT forearm_cuff",
-                 "STOP FUNCTION AND LOGGING", "CAUTIONS AND OVERRIDES", "Room to stop", "R107 logging-rate"):
+    for line in (
+        "bracer · pre-trial review",
+        "AVRU-EXO-01",
+        "nominal protocol",
+        "JOINT shoulder_flexion",
+        "JOINT forearm_rotation",
+        "CONTACT upper_arm_cuff",
+        "CONTACT forearm_cuff",
+        "STOP FUNCTION AND LOGGING",
+        "CAUTIONS AND OVERRIDES",
+        "Room to stop",
+        "R107 logging-rate",
+    ):
         assert line in out, line
     # The statement, unwrapped: verification evidence, not a certification; who decides.
     flat = " ".join(out.split())
@@ -48,11 +58,14 @@ def test_flawed_exits_1_and_info_threshold(cli) -> None:  # type: ignore[no-unty
     assert "at or above 'error'" in ran.stdout
 
 
-@pytest.mark.parametrize("args", [
-    ("review", "no-such-file.yaml"),
-    ("review", EXAMPLE, "--participant", "AV-P1"),
-    ("review", EXAMPLE, "--fail-on", "severe"),
-])
+@pytest.mark.parametrize(
+    "args",
+    [
+        ("review", "no-such-file.yaml"),
+        ("review", EXAMPLE, "--participant", "AV-P1"),
+        ("review", EXAMPLE, "--fail-on", "severe"),
+    ],
+)
 def test_unusable_input_exits_2_without_traceback(cli, args) -> None:  # type: ignore[no-untyped-def]
     ran = cli(*args)
     assert ran.code == 2
@@ -67,8 +80,12 @@ def test_unknown_participant_suggests_a_close_code(cli) -> None:  # type: ignore
 
 def test_malformed_protocol_exits_2_with_file_and_line(cli, tmp_path: Path) -> None:  # type: ignore[no-untyped-def]
     bad = tmp_path / "bad.yaml"
-    bad.write_text(EXAMPLE.read_text(encoding="utf-8").replace("stop_deceleration: 600 deg/s^2",
-                                                               "stop_deceleration: 600", 1), encoding="utf-8")
+    bad.write_text(
+        EXAMPLE.read_text(encoding="utf-8").replace(
+            "stop_deceleration: 600 deg/s^2", "stop_deceleration: 600", 1
+        ),
+        encoding="utf-8",
+    )
     ran = cli("review", bad)
     assert ran.code == 2
     assert f"{bad}:" in ran.stderr and "unit" in ran.stderr
@@ -80,8 +97,12 @@ def test_json_record(cli, tmp_path: Path) -> None:  # type: ignore[no-untyped-de
     assert ran.code == 1
     record = json.loads(out.read_text(encoding="utf-8"))
     assert record["tool"]["name"] == "bracer"
-    assert record["protocol"] == {"id": "AVRU-FLAW-00", "version": "0.1", "date": "2027-02-01",
-                                  "title": "Deliberately flawed protocol for the pre-trial review demonstration"}
+    assert record["protocol"] == {
+        "id": "AVRU-FLAW-00",
+        "version": "0.1",
+        "date": "2027-02-01",
+        "title": "Deliberately flawed protocol for the pre-trial review demonstration",
+    }
     assert record["participant"] == "FX-P01"
     inputs = {Path(i["path"]).name: i["sha256"] for i in record["inputs"]}
     assert inputs[FLAWED.name] == hashlib.sha256(FLAWED.read_bytes()).hexdigest()
@@ -104,7 +125,9 @@ def test_json_to_an_unwritable_path_exits_2(cli, tmp_path: Path) -> None:  # typ
 
 
 def _in_subprocess(code: str) -> str:
-    done = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True, timeout=120, check=False)
+    done = subprocess.run(
+        [sys.executable, "-c", code], capture_output=True, text=True, timeout=120, check=False
+    )
     assert done.returncode == 0, done.stderr
     return done.stdout
 
@@ -130,6 +153,7 @@ def test_checks_import_neither_cli_nor_report_writers() -> None:
     code = (
         "import sys\n"
         "import bracer.review, bracer.review.checks\n"
-        "print(sorted(m for m in sys.modules if m.startswith(('bracer.cli', 'bracer.report', 'rich', 'typer'))))\n"
+        "print(sorted(m for m in sys.modules if m.startswith(('bracer.cli', 'bracer.report', 'rich', "
+        "'typer'))))\n"
     )
     assert _in_subprocess(code).strip() == "[]"

@@ -2,9 +2,8 @@
 
 from __future__ import annotations
 
-from conftest import DELETE, keyset, resolved
-
 from bracer.review.checks import completeness
+from conftest import DELETE, keyset, resolved
 
 
 def run(patch=None, participant="P1"):  # type: ignore[no-untyped-def]
@@ -33,9 +32,13 @@ def test_limit_in_an_undeclared_layer_is_info() -> None:
 
 
 def test_layers_follow_device_layers_declaration() -> None:
-    # Declaring only planned+device for range makes a missing mechanical stop complete, but a present one extra.
-    result = run({"device": {"layers": {"range": ["planned", "device"]}},
-                  "joints": {"elbow": {"range": {"mechanical": DELETE}}}})
+    # With only planned and device declared for range, a missing mechanical stop is complete.
+    result = run(
+        {
+            "device": {"layers": {"range": ["planned", "device"]}},
+            "joints": {"elbow": {"range": {"mechanical": DELETE}}},
+        }
+    )
     assert result.findings == ()
 
 
@@ -53,13 +56,17 @@ def test_speed_derived_from_position_is_not_a_finding() -> None:
 
 def test_no_position_and_no_velocity() -> None:
     result = run({"joints": {"elbow": {"channels": {"velocity": DELETE, "position": DELETE}}}})
-    assert keyset(result.findings) == {("R101", "error", "elbow", "position", None, None),
-                                       ("R101", "error", "elbow", "speed", None, None)}
+    assert keyset(result.findings) == {
+        ("R101", "error", "elbow", "position", None, None),
+        ("R101", "error", "elbow", "speed", None, None),
+    }
 
 
 def test_acceleration_limit_needs_something_to_derive_from() -> None:
-    patch = {"device": {"layers": {"acceleration": ["planned"]}},
-             "joints": {"elbow": {"acceleration": {"planned": "500 deg/s^2"}}}}
+    patch = {
+        "device": {"layers": {"acceleration": ["planned"]}},
+        "joints": {"elbow": {"acceleration": {"planned": "500 deg/s^2"}}},
+    }
     assert run(patch).findings == ()
     patch["joints"]["elbow"]["channels"] = {"velocity": DELETE, "position": DELETE}  # type: ignore[index]
     assert ("R101", "error", "elbow", "acceleration", None, None) in keyset(run(patch).findings)
@@ -74,8 +81,10 @@ def test_contact_without_force_channel() -> None:
 
 def test_contact_without_pressure_and_sustained_limits_is_info() -> None:
     result = run({"contacts": {"cuff": {"pressure": DELETE, "sustained": DELETE}}})
-    assert keyset(result.findings) == {("R101", "info", "cuff", "pressure", None, None),
-                                       ("R101", "info", "cuff", "sustained", None, None)}
+    assert keyset(result.findings) == {
+        ("R101", "info", "cuff", "pressure", None, None),
+        ("R101", "info", "cuff", "sustained", None, None),
+    }
 
 
 def test_no_stop_function() -> None:
@@ -86,6 +95,11 @@ def test_no_stop_function() -> None:
 def test_triggers() -> None:
     none = run({"logging": {"triggers": DELETE}})
     assert keyset(none.findings) == {("R101", "error", None, "trigger", None, None)}
-    protective_only = run({"logging": {"triggers": {"emergency_stop": DELETE,
-                                                    "protective_stop": {"column": "p", "active": [1]}}}})
+    protective_only = run(
+        {
+            "logging": {
+                "triggers": {"emergency_stop": DELETE, "protective_stop": {"column": "p", "active": [1]}}
+            }
+        }
+    )
     assert keyset(protective_only.findings) == {("R101", "warning", None, "trigger", None, None)}

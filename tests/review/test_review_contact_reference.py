@@ -3,9 +3,9 @@
 from __future__ import annotations
 
 import pytest
-from conftest import DELETE, keyset, resolved
 
 from bracer.review.checks import contact_reference
+from conftest import DELETE, keyset, resolved
 
 
 def run(patch=None):  # type: ignore[no-untyped-def]
@@ -50,13 +50,15 @@ def test_pressure_reference_of_the_specific_area_and_force_over_area() -> None:
 
 def test_pressure_limit_in_kpa_is_compared_in_its_own_unit() -> None:
     # 190 N/cm^2 = 1900 kPa (1 N/cm^2 = 10 kPa); a 1900 kPa limit on the radial bone has ratio 1.
-    result = run({"contacts": {"cuff": {"specific_area": "radial bone", "pressure": {"quasi_static": "1900 kPa"}}}})
+    result = run(
+        {"contacts": {"cuff": {"specific_area": "radial bone", "pressure": {"quasi_static": "1900 kPa"}}}}
+    )
     r = rows(result)[("pressure", "quasi_static", "limit")]
     assert r.unit == "kPa" and r.reference == pytest.approx(1900.0) and r.ratio == pytest.approx(1.0)
 
 
 def test_no_specific_area_uses_the_lowest_of_the_region() -> None:
-    # Hand & fingers ([C2]): the lowest pressure is the back of the non-dominant hand, 190 N/cm^2; force 140 N.
+    # Hand & fingers ([C2]): lowest pressure is the back of the non-dominant hand, 190 N/cm^2; force 140 N.
     result = run({"contacts": {"cuff": {"body_region": "hand_fingers", "specific_area": DELETE}}})
     assert keyset(result.findings) == {("R104", "info", "cuff", "pressure", None, None)}
     assert "conservative" in result.findings[0].message
@@ -73,9 +75,18 @@ def test_unknown_specific_area_is_a_warning_with_did_you_mean() -> None:
 
 def test_transient_limit_where_transient_contact_is_not_permissible() -> None:
     # Annex A ([C2]): no transient contact for face and skull/forehead (transient factor 0).
-    result = run({"contacts": {"cuff": {"body_region": "face", "specific_area": "masticatory muscle",
-                                        "force": {"quasi_static": "30 N", "transient": "40 N"},
-                                        "pressure": {"quasi_static": "3 N/cm^2"}}}})
+    result = run(
+        {
+            "contacts": {
+                "cuff": {
+                    "body_region": "face",
+                    "specific_area": "masticatory muscle",
+                    "force": {"quasi_static": "30 N", "transient": "40 N"},
+                    "pressure": {"quasi_static": "3 N/cm^2"},
+                }
+            }
+        }
+    )
     assert keyset(result.findings) == {("R104", "error", "cuff", "force", None, None)}
     r = rows(result)
     assert r[("force", "transient", "limit")].ratio is None
@@ -93,7 +104,18 @@ def test_region_without_a_row_is_info_no_reference() -> None:
 
 def test_upper_arm_deltoid_values() -> None:
     # Table A.2 ([C2]): upper arm & elbow, deltoid muscle: 150 N, 190 N/cm^2.
-    r = rows(run({"contacts": {"cuff": {"body_region": "upper_arm_elbow", "specific_area": "deltoid muscle",
-                                        "force": {"quasi_static": "150 N", "transient": "75 N"}}}}))
+    r = rows(
+        run(
+            {
+                "contacts": {
+                    "cuff": {
+                        "body_region": "upper_arm_elbow",
+                        "specific_area": "deltoid muscle",
+                        "force": {"quasi_static": "150 N", "transient": "75 N"},
+                    }
+                }
+            }
+        )
+    )
     assert r[("force", "quasi_static", "limit")].ratio == pytest.approx(1.0)
     assert r[("pressure", "quasi_static", "limit")].reference == pytest.approx(190.0)

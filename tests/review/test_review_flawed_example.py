@@ -3,11 +3,11 @@
 from __future__ import annotations
 
 import pytest
-from conftest import EXAMPLE, FLAWED, keyset
 
 from bracer.findings import CHECKS, Severity
 from bracer.protocol.load import load_protocol
 from bracer.review import review
+from conftest import EXAMPLE, FLAWED, keyset
 
 REVIEW_CODES = [f"R10{i}" for i in range(1, 8)]
 
@@ -29,10 +29,10 @@ def test_flawed_protocol_is_flagged_by_every_check(flawed, code: str) -> None:  
 def test_each_commented_flaw_is_found(flawed) -> None:  # type: ignore[no-untyped-def]
     found = keyset(flawed.findings, Severity.WARNING)
     expected = {
-        ("R101", "error", "shoulder_flexion", "torque", None, None),          # no torque channel
-        ("R101", "error", "elbow_flexion", "torque", None, "device"),         # declared device torque layer missing
-        ("R101", "error", "forearm_strap", "force", None, None),              # no force channel
-        ("R101", "warning", None, "trigger", None, None),                     # no emergency-stop trigger
+        ("R101", "error", "shoulder_flexion", "torque", None, None),  # no torque channel
+        ("R101", "error", "elbow_flexion", "torque", None, "device"),  # declared device torque layer missing
+        ("R101", "error", "forearm_strap", "force", None, None),  # no force channel
+        ("R101", "warning", None, "trigger", None, None),  # no emergency-stop trigger
         ("R102", "error", "shoulder_flexion", "range", "positive", "planned"),
         ("R102", "error", "shoulder_flexion", "speed", "positive", "planned"),
         ("R102", "warning", "shoulder_flexion", "range", "positive", "mechanical"),  # one layer only
@@ -40,13 +40,13 @@ def test_each_commented_flaw_is_found(flawed) -> None:  # type: ignore[no-untype
         ("R103", "error", "elbow_flexion", "stop_deceleration", None, None),
         ("R103", "warning", "wrist_flexion", "stopping_distance", "positive", "device"),
         ("R104", "warning", "forearm_strap", "force", None, None),
-        ("R104", "warning", "forearm_strap", "pressure", None, None),          # misspelt specific area
-        ("R104", "error", "head_rest", "force", None, None),                   # transient on skull/forehead
+        ("R104", "warning", "forearm_strap", "pressure", None, None),  # misspelt specific area
+        ("R104", "error", "head_rest", "force", None, None),  # transient on skull/forehead
         ("R105", "warning", "hand_grip", "force", None, "planned"),
-        ("R105", "warning", "head_rest", "force", None, None),                 # no lever arm
-        ("R106", "error", "wrist_flexion", None, None, None),                  # caution on undeclared layer
-        ("R106", "error", "elbow_flexion", None, None, None),                  # unjustified loosening
-        ("R106", "warning", "shoulder_flexion", "torque", None, "planned"),    # justified loosening
+        ("R105", "warning", "head_rest", "force", None, None),  # no lever arm
+        ("R106", "error", "wrist_flexion", None, None, None),  # caution on undeclared layer
+        ("R106", "error", "elbow_flexion", None, None, None),  # unjustified loosening
+        ("R106", "warning", "shoulder_flexion", "torque", None, "planned"),  # justified loosening
         ("R107", "warning", "grip", "sample_rate", None, None),
     }
     assert expected <= found, sorted(expected - found)

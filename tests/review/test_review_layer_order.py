@@ -5,10 +5,10 @@ from __future__ import annotations
 import math
 
 import pytest
-from conftest import DELETE, keyset, resolved
 
 from bracer.findings import Severity
 from bracer.review.checks import layer_order
+from conftest import DELETE, keyset, resolved
 
 
 def run(patch=None, participant="P1"):  # type: ignore[no-untyped-def]
@@ -35,8 +35,16 @@ def test_planned_beyond_device_is_an_error_with_negative_margin() -> None:
 
 
 def test_speed_and_torque_layers() -> None:
-    result = run({"joints": {"elbow": {"speed": {"planned": "70 deg/s"},
-                                       "torque": {"planned": {"positive": "9 N*m", "negative": "4 N*m"}}}}})
+    result = run(
+        {
+            "joints": {
+                "elbow": {
+                    "speed": {"planned": "70 deg/s"},
+                    "torque": {"planned": {"positive": "9 N*m", "negative": "4 N*m"}},
+                }
+            }
+        }
+    )
     assert keyset(result.findings) == {
         ("R102", "error", "elbow", "speed", "positive", "planned"),
         ("R102", "error", "elbow", "speed", "negative", "planned"),
@@ -47,16 +55,21 @@ def test_speed_and_torque_layers() -> None:
 def test_margin_in_the_unit_of_the_inner_limit() -> None:
     # planned max 2 rad against device max 130 deg: margin 130·π/180 − 2 = 0.26893 rad, reported in rad.
     result = run({"joints": {"elbow": {"range": {"planned": {"min": "0.4 rad", "max": "2 rad"}}}}})
-    row = next(r for r in result.margins
-               if (r.quantity, r.direction, r.inner, r.outer) == ("range", "positive", "planned", "device"))
+    row = next(
+        r
+        for r in result.margins
+        if (r.quantity, r.direction, r.inner, r.outer) == ("range", "positive", "planned", "device")
+    )
     assert row.unit == "rad"
     assert row.margin == pytest.approx(math.radians(130) - 2.0)
 
 
 def test_mechanical_beyond_measured_range_is_one_layer_only() -> None:
     result = run({"participants": {"P1": {"rom": {"elbow": {"min": "8 deg", "max": "135 deg"}}}}})
-    assert keyset(result.findings) == {("R102", "warning", "elbow", "range", "positive", "mechanical"),
-                                       ("R102", "warning", "elbow", "range", "negative", "mechanical")}
+    assert keyset(result.findings) == {
+        ("R102", "warning", "elbow", "range", "positive", "mechanical"),
+        ("R102", "warning", "elbow", "range", "negative", "mechanical"),
+    }
     assert all("one layer of protection only" in f.message for f in result.findings)
     prot = {p.direction: p for p in result.protection}
     assert prot["positive"].layers == "controller only"
@@ -65,10 +78,16 @@ def test_mechanical_beyond_measured_range_is_one_layer_only() -> None:
 
 
 def test_no_mechanical_stop_is_one_layer_only() -> None:
-    result = run({"device": {"layers": {"range": ["planned", "device"]}},
-                  "joints": {"elbow": {"range": {"mechanical": DELETE}}}})
-    assert keyset(result.findings) == {("R102", "warning", "elbow", "range", "positive", "mechanical"),
-                                       ("R102", "warning", "elbow", "range", "negative", "mechanical")}
+    result = run(
+        {
+            "device": {"layers": {"range": ["planned", "device"]}},
+            "joints": {"elbow": {"range": {"mechanical": DELETE}}},
+        }
+    )
+    assert keyset(result.findings) == {
+        ("R102", "warning", "elbow", "range", "positive", "mechanical"),
+        ("R102", "warning", "elbow", "range", "negative", "mechanical"),
+    }
     assert all("no mechanical end stop" in f.message for f in result.findings)
 
 
@@ -91,8 +110,17 @@ def test_nominal_review_uses_the_normative_reference_with_a_warning() -> None:
 
 
 def test_planned_beyond_normative_range_is_a_warning() -> None:
-    patch = {"joints": {"elbow": {"range": {"planned": {"max": "155 deg"}, "device": {"max": "156 deg"},
-                                            "mechanical": {"max": "160 deg"}}}}}
+    patch = {
+        "joints": {
+            "elbow": {
+                "range": {
+                    "planned": {"max": "155 deg"},
+                    "device": {"max": "156 deg"},
+                    "mechanical": {"max": "160 deg"},
+                }
+            }
+        }
+    }
     result = run(patch, participant=None)
     beyond = [f for f in result.findings if f.layer == "planned"]
     assert [(f.severity, f.direction) for f in beyond] == [(Severity.WARNING, "positive")]
@@ -100,7 +128,9 @@ def test_planned_beyond_normative_range_is_a_warning() -> None:
 
 def test_direction_without_any_participant_range() -> None:
     result = run({"joints": {"elbow": {"reference": {"negative": DELETE}}}}, participant=None)
-    assert keyset(result.findings) == {("R102", "warning", "elbow", "range", "negative", "participant"),
-                                       ("R102", "warning", "elbow", "range", None, "participant")}
+    assert keyset(result.findings) == {
+        ("R102", "warning", "elbow", "range", "negative", "participant"),
+        ("R102", "warning", "elbow", "range", None, "participant"),
+    }
     prot = {p.direction: p for p in result.protection}
     assert prot["negative"].layers == "not assessable"

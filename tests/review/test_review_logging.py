@@ -3,9 +3,9 @@
 from __future__ import annotations
 
 import pytest
-from conftest import DELETE, keyset, resolved
 
 from bracer.review.checks import logging_rate
+from conftest import DELETE, keyset, resolved
 
 
 def run(patch=None):  # type: ignore[no-untyped-def]
@@ -22,15 +22,20 @@ def test_fast_stream_is_adequate() -> None:
     assert row.channels == 5  # elbow position, velocity, torque; cuff force; emergency-stop trigger
 
 
-@pytest.mark.parametrize(("rate", "budget", "flagged"), [
-    ("30 Hz", "300 ms", True),     # 9 samples
-    ("34 Hz", "300 ms", False),    # 10.2 samples
-    ("50 Hz", "200 ms", False),    # exactly 10 samples: enough
-    ("45 Hz", "200 ms", True),     # 9 samples
-    ("0.04 kHz", "0.25 s", False),  # 10 samples, other units
-])
+@pytest.mark.parametrize(
+    ("rate", "budget", "flagged"),
+    [
+        ("30 Hz", "300 ms", True),  # 9 samples
+        ("34 Hz", "300 ms", False),  # 10.2 samples
+        ("50 Hz", "200 ms", False),  # exactly 10 samples: enough
+        ("45 Hz", "200 ms", True),  # 9 samples
+        ("0.04 kHz", "0.25 s", False),  # 10 samples, other units
+    ],
+)
 def test_ten_samples_rule(rate: str, budget: str, flagged: bool) -> None:
-    result = run({"logging": {"streams": {"main": {"sample_rate": rate}}}, "stop": {"latency_budget": budget}})
+    result = run(
+        {"logging": {"streams": {"main": {"sample_rate": rate}}}, "stop": {"latency_budget": budget}}
+    )
     expected = {("R107", "warning", "main", "sample_rate", None, None)} if flagged else set()
     assert keyset(result.findings) == expected
 

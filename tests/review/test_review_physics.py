@@ -25,7 +25,8 @@ def test_stopping_angular_analogue_same_numbers_in_rad() -> None:
 
 
 def test_inverse_gives_back_the_speed_of_the_example() -> None:
-    # Inverse of the kinematics example (REFERENCES.md, [V]): v = a(−t_r + √(t_r² + 2d/a)); d = 87.5 mm -> 0.5 m/s.
+    # Inverse of the kinematics example (REFERENCES.md, [V]): v = a(−t_r + √(t_r² + 2d/a));
+    # d = 87.5 mm -> 0.5 m/s.
     assert physics.largest_speed_within_distance(0.0875, 0.05, 2.0) == pytest.approx(0.5, rel=1e-12)
 
 

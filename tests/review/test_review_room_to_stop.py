@@ -3,19 +3,25 @@
 from __future__ import annotations
 
 import pytest
-from conftest import DELETE, keyset, resolved
 
 from bracer.review.checks import room_to_stop
+from conftest import DELETE, keyset, resolved
 
-# The kinematics example of REFERENCES.md ([V]: d = v·t_r + v²/(2a), t = t_r + v/a), as a joint's angular analogue:
+# The kinematics example of REFERENCES.md ([V]: d = v·t_r + v²/(2a), t = t_r + v/a), as a joint's angular
+# analogue:
 # v = 0.5 rad/s, a = 2 rad/s^2, t_r = 50 ms -> d = 0.0875 rad, t = 300 ms.
 KINEMATICS = {
-    "joints": {"elbow": {
-        "range": {"planned": {"min": "0.5 rad", "max": "2.0 rad"}, "device": {"min": "0.4 rad", "max": "2.1 rad"},
-                  "mechanical": {"min": "0.3 rad", "max": "2.2 rad"}},
-        "speed": {"planned": "0.5 rad/s", "device": "1 rad/s"},
-        "stop_deceleration": "2 rad/s^2",
-    }},
+    "joints": {
+        "elbow": {
+            "range": {
+                "planned": {"min": "0.5 rad", "max": "2.0 rad"},
+                "device": {"min": "0.4 rad", "max": "2.1 rad"},
+                "mechanical": {"min": "0.3 rad", "max": "2.2 rad"},
+            },
+            "speed": {"planned": "0.5 rad/s", "device": "1 rad/s"},
+            "stop_deceleration": "2 rad/s^2",
+        }
+    },
     "stop": {"reaction_time": "50 ms", "latency_budget": "350 ms"},
 }
 
@@ -40,17 +46,25 @@ def test_kinematics_example_in_rad() -> None:
 
 def test_inverse_on_the_kinematics_example() -> None:
     # Room exactly 87.5 mrad -> the largest speed is the example's 0.5 rad/s (REFERENCES.md inverse, [V]).
-    patch = {"joints": {"elbow": {**KINEMATICS["joints"]["elbow"],
-                                  "range": {"planned": {"min": "0.5 rad", "max": "2.0 rad"},
-                                            "device": {"min": "0.4 rad", "max": "2.0875 rad"},
-                                            "mechanical": {"min": "0.3 rad", "max": "2.2 rad"}}}},
-             "stop": KINEMATICS["stop"]}
+    patch = {
+        "joints": {
+            "elbow": {
+                **KINEMATICS["joints"]["elbow"],
+                "range": {
+                    "planned": {"min": "0.5 rad", "max": "2.0 rad"},
+                    "device": {"min": "0.4 rad", "max": "2.0875 rad"},
+                    "mechanical": {"min": "0.3 rad", "max": "2.2 rad"},
+                },
+            }
+        },
+        "stop": KINEMATICS["stop"],
+    }
     row = next(r for r in run(patch).stops if r.direction == "positive")
     assert row.largest_speed_outer == pytest.approx(0.5, rel=1e-9)
 
 
 def test_budget_shorter_than_stopping_time_is_an_error() -> None:
-    # Same example with a 250 ms budget: 300 ms > 250 ms; largest speed within budget 2·(0.25 − 0.05) = 0.4 rad/s.
+    # Same example, 250 ms budget: 300 ms > 250 ms; largest speed within it 2·(0.25 − 0.05) = 0.4 rad/s.
     patch = {**KINEMATICS, "stop": {"reaction_time": "50 ms", "latency_budget": "250 ms"}}
     result = run(patch)
     assert keyset(result.findings) == {("R103", "error", "elbow", "stop_time", None, "planned")}
@@ -60,31 +74,59 @@ def test_budget_shorter_than_stopping_time_is_an_error() -> None:
 
 
 def test_asymmetric_speeds_give_one_time_finding_per_direction() -> None:
-    patch = {**KINEMATICS, "stop": {"reaction_time": "50 ms", "latency_budget": "250 ms"},
-             "joints": {"elbow": {**KINEMATICS["joints"]["elbow"],
-                                  "speed": {"planned": {"positive": "0.5 rad/s", "negative": "0.45 rad/s"},
-                                            "device": "1 rad/s"}}}}
-    assert keyset(run(patch).findings) == {("R103", "error", "elbow", "stop_time", "positive", "planned"),
-                                           ("R103", "error", "elbow", "stop_time", "negative", "planned")}
+    patch = {
+        **KINEMATICS,
+        "stop": {"reaction_time": "50 ms", "latency_budget": "250 ms"},
+        "joints": {
+            "elbow": {
+                **KINEMATICS["joints"]["elbow"],
+                "speed": {
+                    "planned": {"positive": "0.5 rad/s", "negative": "0.45 rad/s"},
+                    "device": "1 rad/s",
+                },
+            }
+        },
+    }
+    assert keyset(run(patch).findings) == {
+        ("R103", "error", "elbow", "stop_time", "positive", "planned"),
+        ("R103", "error", "elbow", "stop_time", "negative", "planned"),
+    }
 
 
 def test_not_enough_room_to_the_device_limit_is_a_warning() -> None:
     # 30 deg/s, 30 ms, 1000 deg/s^2 -> d = 0.9 + 0.45 = 1.35 deg; room 1 deg to the device limit.
     patch = {"joints": {"elbow": {"range": {"device": {"max": "121 deg"}}}}}
     result = run(patch)
-    assert keyset(result.findings) == {("R103", "warning", "elbow", "stopping_distance", "positive", "device")}
+    assert keyset(result.findings) == {
+        ("R103", "warning", "elbow", "stopping_distance", "positive", "device")
+    }
     (f,) = result.findings
     assert f.peak == pytest.approx(1.35) and f.limit == pytest.approx(1.0) and f.unit == "deg"
 
 
 def test_not_enough_room_to_measured_range_is_an_error_normative_a_warning() -> None:
     measured = run({"participants": {"P1": {"rom": {"elbow": {"max": "121 deg"}}}}})
-    assert ("R103", "error", "elbow", "stopping_distance", "positive", "participant") in keyset(measured.findings)
+    assert ("R103", "error", "elbow", "stopping_distance", "positive", "participant") in keyset(
+        measured.findings
+    )
     # Nominal: elbow flexion 150 deg (AAOS, [C2]); planned max 149 deg leaves 1 deg.
-    nominal = run({"joints": {"elbow": {"range": {"planned": {"max": "149 deg"}, "device": {"max": "151 deg"},
-                                                  "mechanical": {"max": "155 deg"}}}}}, participant=None)
-    assert keyset(nominal.findings) == {("R103", "warning", "elbow", "stopping_distance", "positive",
-                                         "participant")}
+    nominal = run(
+        {
+            "joints": {
+                "elbow": {
+                    "range": {
+                        "planned": {"max": "149 deg"},
+                        "device": {"max": "151 deg"},
+                        "mechanical": {"max": "155 deg"},
+                    }
+                }
+            }
+        },
+        participant=None,
+    )
+    assert keyset(nominal.findings) == {
+        ("R103", "warning", "elbow", "stopping_distance", "positive", "participant")
+    }
 
 
 def test_missing_deceleration_is_a_finding_not_a_crash() -> None:
@@ -99,7 +141,9 @@ def test_no_stop_function() -> None:
 
 
 def test_device_speed_stands_in_for_a_missing_planned_speed() -> None:
-    result = run({"device": {"layers": {"speed": ["device"]}}, "joints": {"elbow": {"speed": {"planned": DELETE}}}})
+    result = run(
+        {"device": {"layers": {"speed": ["device"]}}, "joints": {"elbow": {"speed": {"planned": DELETE}}}}
+    )
     assert result.findings == ()
     assert {r.speed_layer for r in result.stops} == {"device"}
     assert result.stops[0].speed == 60.0
@@ -108,5 +152,7 @@ def test_device_speed_stands_in_for_a_missing_planned_speed() -> None:
 def test_planned_beyond_the_device_limit_has_no_room_at_all() -> None:
     result = run({"joints": {"elbow": {"range": {"planned": {"max": "132 deg"}}}}})
     row = next(r for r in result.stops if r.direction == "positive")
-    assert row.room_outer == pytest.approx(-2.0) and row.fits_outer is False and row.largest_speed_outer is None
+    assert (
+        row.room_outer == pytest.approx(-2.0) and row.fits_outer is False and row.largest_speed_outer is None
+    )
     assert ("R103", "warning", "elbow", "stopping_distance", "positive", "device") in keyset(result.findings)

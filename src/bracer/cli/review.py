@@ -13,13 +13,25 @@ from bracer.cli import app
 
 @app.command()
 def review(
-    protocol: Path = typer.Argument(..., help="Protocol file (YAML)."),
-    participant: str | None = typer.Option(None, "--participant", "-p", help="Participant code; default: nominal."),
-    json_path: Path | None = typer.Option(None, "--json", help="Also write the review as JSON to this path."),
-    fail_on: str = typer.Option("error", "--fail-on", help="Exit 1 when a finding is at or above: info, warning, error."),
+    # typer declares arguments and options as default values; B008 does not apply to them.
+    protocol: Path = typer.Argument(..., help="Protocol file (YAML)."),  # noqa: B008
+    participant: str | None = typer.Option(
+        None, "--participant", "-p", help="Participant code; default: the nominal protocol."
+    ),
+    json_path: Path | None = typer.Option(None, "--json", help="Also write the review as JSON to this path."),  # noqa: B008
+    fail_on: str = typer.Option(
+        "error", "--fail-on", help="Exit 1 when a finding is at or above: info, warning, error."
+    ),
 ) -> None:
     """Review a protocol before a trial: completeness, layer order, room to stop, contact loads, cautions."""
-    from bracer.cli.common import EXIT_FINDINGS, EXIT_OK, fail_input, parse_severity, pick_participant, usage_error
+    from bracer.cli.common import (
+        EXIT_FINDINGS,
+        EXIT_OK,
+        fail_input,
+        parse_severity,
+        pick_participant,
+        usage_error,
+    )
     from bracer.errors import InputError
     from bracer.protocol.load import load_protocol
 

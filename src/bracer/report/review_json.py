@@ -39,7 +39,12 @@ def review_record(result: ReviewResult) -> dict[str, Any]:
         "record": "bracer-review",
         "format_version": FORMAT_VERSION,
         "tool": {"name": "bracer", "version": __version__},
-        "protocol": {"id": ident.id, "version": ident.version, "date": ident.date.isoformat(), "title": ident.title},
+        "protocol": {
+            "id": ident.id,
+            "version": ident.version,
+            "date": ident.date.isoformat(),
+            "title": ident.title,
+        },
         "participant": result.participant,
         "cautions_applied": list(result.resolution.cautions),
         "inputs": [dataclasses.asdict(i) for i in result.inputs],
@@ -51,7 +56,9 @@ def review_record(result: ReviewResult) -> dict[str, Any]:
                 "summary": r.check.summary,
                 "default_severity": r.check.severity.label,
                 "counts": _counts(r.findings),
-                "tables": {name: [dataclasses.asdict(row) for row in rows] for name, rows in r.tables().items()},
+                "tables": {
+                    name: [dataclasses.asdict(row) for row in rows] for name, rows in r.tables().items()
+                },
             }
             for r in result.checks
         ],

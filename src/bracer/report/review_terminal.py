@@ -1,9 +1,9 @@
 """The pre-trial review in the terminal: one section per joint and per contact, then the stop function and
 logging, then the cautions, then the summary and the statement.
 
-Severity marks are text labels (``ERROR``, ``WARN``, ``info``) with a symbol, so that they read the same without
-colour (a pipe, a printout, a colour-blind reader).  All data texts from the protocol are rendered as plain
-text, never as rich markup.
+Severity marks are text labels (``ERROR``, ``WARN``, ``info``) with a symbol, so that they read the same
+without colour (a pipe, a printout, a colour-blind reader).  All data texts from the protocol are rendered as
+plain text, never as rich markup.
 """
 
 from __future__ import annotations
@@ -29,14 +29,41 @@ from bracer.units import format_number
 
 __all__ = ["render_review"]
 
-_MARK = {Severity.ERROR: ("✖ ERROR", "bold red"), Severity.WARNING: ("▲ WARN ", "yellow"),
-         Severity.INFO: ("· info ", "dim")}
-_NO_WRAP = frozenset({"end", "participant", "speed", "planned", "device", "mechanical", "layers", "p→d", "d→m", "p→pt", "time", "budget",
-                      "v max", "distance", "ratio", "value", "reference", "layer"})
+_MARK = {
+    Severity.ERROR: ("✖ ERROR", "bold red"),
+    Severity.WARNING: ("▲ WARN ", "yellow"),
+    Severity.INFO: ("· info ", "dim"),
+}
+_NO_WRAP = frozenset(
+    {
+        "end",
+        "participant",
+        "speed",
+        "planned",
+        "device",
+        "mechanical",
+        "layers",
+        "p→d",
+        "d→m",
+        "p→pt",
+        "time",
+        "budget",
+        "v max",
+        "distance",
+        "ratio",
+        "value",
+        "reference",
+        "layer",
+    }
+)
 _REGION_WORDS = {
-    "skull_forehead": "skull and forehead", "back_shoulders": "back and shoulders",
-    "upper_arm_elbow": "upper arm and elbow", "lower_arm_wrist": "lower arm and wrist",
-    "hand_fingers": "hand and fingers", "thigh_knee": "thigh and knee", "lower_leg": "lower leg",
+    "skull_forehead": "skull and forehead",
+    "back_shoulders": "back and shoulders",
+    "upper_arm_elbow": "upper arm and elbow",
+    "lower_arm_wrist": "lower arm and wrist",
+    "hand_fingers": "hand and fingers",
+    "thigh_knee": "thigh and knee",
+    "lower_leg": "lower leg",
 }
 _RULE = "═"
 
@@ -47,8 +74,15 @@ def severity_label(severity: Severity) -> Text:
 
 
 def _table(*columns: str, title: str | None = None) -> Table:
-    table = Table(box=box.SIMPLE_HEAD, show_edge=False, pad_edge=False, title=title, title_justify="left",
-                  title_style="italic", header_style="bold")
+    table = Table(
+        box=box.SIMPLE_HEAD,
+        show_edge=False,
+        pad_edge=False,
+        title=title,
+        title_justify="left",
+        title_style="italic",
+        header_style="bold",
+    )
     for col in columns:
         table.add_column(col, no_wrap=col in _NO_WRAP)
     return table
@@ -98,7 +132,9 @@ def _header(result: ReviewResult) -> RenderableType:
     table.add_column()
     table.add_row(_t("protocol"), _t(f"{ident.id}  version {ident.version}  ({ident.date.isoformat()})"))
     table.add_row(_t("title"), _t(ident.title))
-    device = f"{p.device.name} · {p.device.kind}" + (f" · firmware {p.device.firmware}" if p.device.firmware else "")
+    device = f"{p.device.name} · {p.device.kind}" + (
+        f" · firmware {p.device.firmware}" if p.device.firmware else ""
+    )
     table.add_row(_t("device"), _t(device))
     if ident.site:
         table.add_row(_t("site"), _t(ident.site))
@@ -107,8 +143,10 @@ def _header(result: ReviewResult) -> RenderableType:
     else:
         part = result.resolution.participant
         n_over = len(part.overrides) if part else 0
-        who = (f"{result.participant} · cautions: {', '.join(result.resolution.cautions) or 'none'} · "
-               f"{n_over} override(s)")
+        who = (
+            f"{result.participant} · cautions: {', '.join(result.resolution.cautions) or 'none'} · "
+            f"{n_over} override(s)"
+        )
     table.add_row(_t("participant"), _t(who))
     for rec in result.inputs[:1]:
         table.add_row(_t("file"), _t(f"{rec.path}  sha256 {rec.sha256[:16]}…"))
@@ -121,9 +159,16 @@ def _overview(result: ReviewResult) -> RenderableType:
     for r in result.checks:
         counts = {s: sum(f.severity == s for f in r.findings) for s in Severity}
         worst = max((f.severity for f in r.findings), default=None)
-        mark = severity_label(worst) if worst is not None and worst > Severity.INFO else _t("  ok   ", "green")
-        table.add_row(_t(f"{r.check.code} {r.check.name}"), mark, _t(str(counts[Severity.ERROR])),
-                      _t(str(counts[Severity.WARNING])), _t(str(counts[Severity.INFO])))
+        mark = (
+            severity_label(worst) if worst is not None and worst > Severity.INFO else _t("  ok   ", "green")
+        )
+        table.add_row(
+            _t(f"{r.check.code} {r.check.name}"),
+            mark,
+            _t(str(counts[Severity.ERROR])),
+            _t(str(counts[Severity.WARNING])),
+            _t(str(counts[Severity.INFO])),
+        )
     return table
 
 
@@ -143,10 +188,20 @@ _MARGIN_COLUMNS = (("planned", "device"), ("device", "mechanical"), ("planned", 
 
 
 def _joint_limits(result: ReviewResult, name: str, joint: Joint) -> RenderableType | None:
-    table = _table("limit", "end", "planned", "device", "mechanical", "participant", "layers", "p→d", "d→m",
-                   "p→pt",
-                   title="Limits by layer. Margins (+ inside, − beyond): p→d planned to device, d→m device to "
-                   "mechanical, p→pt planned to participant")
+    table = _table(
+        "limit",
+        "end",
+        "planned",
+        "device",
+        "mechanical",
+        "participant",
+        "layers",
+        "p→d",
+        "d→m",
+        "p→pt",
+        title="Limits by layer. Margins (+ inside, − beyond): p→d planned to device, d→m device to "
+        "mechanical, p→pt planned to participant",
+    )
     margins = [m for m in result.layer_order.margins if m.joint == name]
     protection = {p.direction: p for p in result.layer_order.protection if p.joint == name}
     any_row = False
@@ -160,8 +215,10 @@ def _joint_limits(result: ReviewResult, name: str, joint: Joint) -> RenderableTy
             cells = [_t(c) for c in _limit_cells(joint, quantity, direction, unit)]
             prot = protection.get(direction) if quantity == "range" else None
             participant, layers_cell = _participant_cells(prot) if quantity == "range" else ("", "")
-            rows = {(m.inner, m.outer): m for m in margins if m.quantity == quantity and m.direction == direction}
-            # With a layer missing, the margin spans the gap (planned→mechanical sits in the device→mech. column).
+            rows = {
+                (m.inner, m.outer): m for m in margins if m.quantity == quantity and m.direction == direction
+            }
+            # With a layer missing the margin spans the gap: planned→mechanical goes in the d→m column.
             if ("planned", "mechanical") in rows:
                 rows[("device", "mechanical")] = rows.pop(("planned", "mechanical"))
             for inner in ("device", "mechanical"):
@@ -173,11 +230,21 @@ def _joint_limits(result: ReviewResult, name: str, joint: Joint) -> RenderableTy
                 if m is None:
                     margin_cells.append(_t(""))
                 else:
-                    margin_cells.append(_t(f"{'+' if m.margin >= 0 else ''}{fmt(m.margin, m.unit)}"
-                                           + ("" if m.inside else " BEYOND"), "" if m.inside else "bold red"))
-            table.add_row(_t(quantity if direction == "positive" else ""), _t(end_label(joint, direction)),
-                          *cells, _t(participant), _t(layers_cell, "yellow" if layers_cell == "1 only" else ""),
-                          *margin_cells)
+                    margin_cells.append(
+                        _t(
+                            f"{'+' if m.margin >= 0 else ''}{fmt(m.margin, m.unit)}"
+                            + ("" if m.inside else " BEYOND"),
+                            "" if m.inside else "bold red",
+                        )
+                    )
+            table.add_row(
+                _t(quantity if direction == "positive" else ""),
+                _t(end_label(joint, direction)),
+                *cells,
+                _t(participant),
+                _t(layers_cell, "yellow" if layers_cell == "1 only" else ""),
+                *margin_cells,
+            )
             any_row = True
     return table if any_row else None
 
@@ -186,8 +253,10 @@ def _participant_cells(prot: Protection | None) -> tuple[str, str]:
     """The participant's range at this end with its source, and how many layers protect it."""
     if prot is None or prot.participant is None:
         return "– (not known)", "?"
-    return (f"{fmt(prot.participant, prot.unit)} ({prot.source})",
-            "1 only" if prot.layers == "controller only" else "2")
+    return (
+        f"{fmt(prot.participant, prot.unit)} ({prot.source})",
+        "1 only" if prot.layers == "controller only" else "2",
+    )
 
 
 def _channels_line(requirements: Sequence[Requirement]) -> RenderableType | None:
@@ -208,20 +277,36 @@ def _channels_line(requirements: Sequence[Requirement]) -> RenderableType | None
 def _stops_table(stops: Sequence[StopRoom], joint: Joint) -> RenderableType | None:
     if not stops:
         return None
-    table = _table("end", "speed", "distance", "room to next layer", "v max", "room to participant",
-                   "v max", "time", "budget",
-                   title="Room to stop: d = v·t + v²/(2a), largest speed v max = a·(−t + √(t² + 2·room/a))")
+    table = _table(
+        "end",
+        "speed",
+        "distance",
+        "room to next layer",
+        "v max",
+        "room to participant",
+        "v max",
+        "time",
+        "budget",
+        title="Room to stop: d = v·t + v²/(2a), largest speed v max = a·(−t + √(t² + 2·room/a))",
+    )
     for s in stops:
         table.add_row(
             _t(end_label(joint, s.direction)),
             _t(f"{fmt(s.speed, s.speed_unit)} ({s.speed_layer})"),
             _t(fmt(s.distance, s.distance_unit)),
-            _room(s.room_outer, s.fits_outer, s.distance_unit, s.outer_layer if s.outer_layer != "device" else None),
+            _room(
+                s.room_outer,
+                s.fits_outer,
+                s.distance_unit,
+                s.outer_layer if s.outer_layer != "device" else None,
+            ),
             _t(fmt(s.largest_speed_outer, s.speed_unit)),
             _room(s.room_participant, s.fits_participant, s.distance_unit, None),
             _t(fmt(s.largest_speed_participant, s.speed_unit)),
-            _t(fmt(s.stop_time, s.time_unit) + ("" if s.within_budget else " OVER"),
-               None if s.within_budget else "bold red"),
+            _t(
+                fmt(s.stop_time, s.time_unit) + ("" if s.within_budget else " OVER"),
+                None if s.within_budget else "bold red",
+            ),
             _t(fmt(s.budget, s.time_unit)),
         )
     return table
@@ -246,8 +331,12 @@ def _changes_block(result: ReviewResult, kind: str, name: str) -> RenderableType
                 state = "" if c.applied else "  (not applied: already tighter)"
                 if c.loosens:
                     state = "  (LOOSENS)"
-                lines.append(Text(f"  {c.quantity} {c.part}: {fmt(c.before, c.unit)} → {fmt(c.after, c.unit)}"
-                                  f"  [{row.source_kind} {row.source}]{state}"))
+                lines.append(
+                    Text(
+                        f"  {c.quantity} {c.part}: {fmt(c.before, c.unit)} → {fmt(c.after, c.unit)}"
+                        f"  [{row.source_kind} {row.source}]{state}"
+                    )
+                )
     if not lines:
         return None
     return Group(Text("changed for this participant:", style="bold"), *lines)
@@ -262,8 +351,9 @@ def _joint_section(result: ReviewResult, name: str, joint: Joint) -> list[Render
     parts: list[RenderableType] = [Text(), _heading("JOINT", name, detail)]
     for block in (
         _joint_limits(result, name, joint),
-        _channels_line([r for r in result.completeness.requirements
-                        if r.subject_kind == "joint" and r.subject == name]),
+        _channels_line(
+            [r for r in result.completeness.requirements if r.subject_kind == "joint" and r.subject == name]
+        ),
         _stops_table([s for s in result.room_to_stop.stops if s.joint == name], joint),
         _changes_block(result, "joint", name),
     ):
@@ -295,14 +385,28 @@ def _reference_table(result: ReviewResult, name: str) -> RenderableType | None:
     rows = [r for r in result.contact_reference.references if r.contact == name]
     if not rows:
         return None
-    table = _table("limit", "basis", "value", "reference", "ratio",
-                   title=f"Against ISO/TS 15066 Annex A ({rows[0].specific_area}) — {CAVEAT}")
+    table = _table(
+        "limit",
+        "basis",
+        "value",
+        "reference",
+        "ratio",
+        title=f"Against ISO/TS 15066 Annex A ({rows[0].specific_area}) — {CAVEAT}",
+    )
     for r in rows:
         ratio = "not permissible" if r.ratio is None else format_number(r.ratio, 3)
-        style = "bold red" if r.ratio is None and r.basis == "limit" else (
-            "yellow" if r.ratio is not None and r.ratio > 1 else "")
-        table.add_row(_t(f"{r.quantity} {r.item.replace('_', '-')}"), _t(r.basis), _t(fmt(r.value, r.unit)),
-                      _t(fmt(r.reference, r.unit)), _t(ratio, style))
+        style = (
+            "bold red"
+            if r.ratio is None and r.basis == "limit"
+            else ("yellow" if r.ratio is not None and r.ratio > 1 else "")
+        )
+        table.add_row(
+            _t(f"{r.quantity} {r.item.replace('_', '-')}"),
+            _t(r.basis),
+            _t(fmt(r.value, r.unit)),
+            _t(fmt(r.reference, r.unit)),
+            _t(ratio, style),
+        )
     return table
 
 
@@ -310,25 +414,43 @@ def _pressing_table(result: ReviewResult, name: str) -> RenderableType | None:
     rows = [r for r in result.torque_force.pressing if r.contact == name]
     if not rows:
         return None
-    table = _table("joint", "layer", "torque", "lever arm", "force (τ/r)", "× force limit", "",
-                   title="Force a joint's torque limit can press into the contact")
+    table = _table(
+        "joint",
+        "layer",
+        "torque",
+        "lever arm",
+        "force (τ/r)",
+        "× force limit",
+        "",
+        title="Force a joint's torque limit can press into the contact",
+    )
     for r in rows:
         ratio = "–" if r.ratio is None else format_number(r.ratio, 3)
         style = "yellow" if r.status == "can exceed the force limit" else ("dim" if r.force is None else "")
-        table.add_row(_t(r.joint), _t(r.layer or "–"), _t(fmt(r.torque, r.torque_unit)),
-                      _t(fmt(r.lever_arm, r.length_unit)), _t(fmt(r.force, r.force_unit)), _t(ratio),
-                      _t(r.status, style))
+        table.add_row(
+            _t(r.joint),
+            _t(r.layer or "–"),
+            _t(fmt(r.torque, r.torque_unit)),
+            _t(fmt(r.lever_arm, r.length_unit)),
+            _t(fmt(r.force, r.force_unit)),
+            _t(ratio),
+            _t(r.status, style),
+        )
     return table
 
 
 def _contact_section(result: ReviewResult, name: str, contact: Contact) -> list[RenderableType]:
     region = _REGION_WORDS.get(contact.body_region, contact.body_region.replace("_", " "))
     where = f"{region}" + (f" ({contact.specific_area})" if contact.specific_area else "")
-    parts: list[RenderableType] = [Text(), _heading("CONTACT", name, f"{contact.kind} on {where} · area {contact.area}")]
+    parts: list[RenderableType] = [
+        Text(),
+        _heading("CONTACT", name, f"{contact.kind} on {where} · area {contact.area}"),
+    ]
     for block in (
         _contact_limits(contact),
-        _channels_line([r for r in result.completeness.requirements
-                        if r.subject_kind == "contact" and r.subject == name]),
+        _channels_line(
+            [r for r in result.completeness.requirements if r.subject_kind == "contact" and r.subject == name]
+        ),
         _reference_table(result, name),
         _pressing_table(result, name),
         _changes_block(result, "contact", name),
@@ -339,7 +461,7 @@ def _contact_section(result: ReviewResult, name: str, contact: Contact) -> list[
     return parts
 
 
-# ----------------------------------------------------------------------------------------------- protocol-wide
+# ------------------------------------------------------------------------------------------- protocol-wide
 
 
 def _stop_and_logging(result: ReviewResult) -> list[RenderableType]:
@@ -347,11 +469,15 @@ def _stop_and_logging(result: ReviewResult) -> list[RenderableType]:
     parts: list[RenderableType] = [Text(), _heading("STOP FUNCTION AND LOGGING", "", "")]
     if p.stop is not None:
         s = p.stop
-        line = Text(f"stop category {s.category} (IEC 60204-1) · latency budget {s.latency_budget} · reaction "
-                    f"{s.reaction_time} · standstill below {s.standstill.speed} for {s.standstill.hold}")
+        line = Text(
+            f"stop category {s.category} (IEC 60204-1) · latency budget {s.latency_budget} · reaction "
+            f"{s.reaction_time} · standstill below {s.standstill.speed} for {s.standstill.hold}"
+        )
         if s.torque_off is not None:
-            line.append(f" · torque off below {s.torque_off.level}"
-                        + (f" within {s.torque_off.within}" if s.torque_off.within else ""))
+            line.append(
+                f" · torque off below {s.torque_off.level}"
+                + (f" within {s.torque_off.within}" if s.torque_off.within else "")
+            )
         parts.append(Padding(line, (0, 0, 0, 2)))
     triggers = [r for r in result.completeness.requirements if r.item.startswith("trigger.")]
     if triggers:
@@ -362,14 +488,25 @@ def _stop_and_logging(result: ReviewResult) -> list[RenderableType]:
             text.append(f"{r.item.removeprefix('trigger.')} ", style="italic")
             text.append(r.detail if r.status == "present" else f"[{r.status}]")
         parts.append(Padding(text, (0, 0, 0, 2)))
-    table = _table("stream", "sample rate", "channels", "samples in budget", "needed (≥ 10 samples)",
-                   title="Sample rate against the stop-latency budget")
-    for s in result.logging.streams:
-        samples = "–" if s.samples_in_budget is None else f"{s.samples_in_budget:.3g}"
-        needed = "–" if s.required_rate is None else fmt(s.required_rate, s.rate_unit)
-        style = "" if s.adequate in (True, None) else "yellow"
-        table.add_row(_t(s.stream), _t(fmt(s.sample_rate, s.rate_unit)), _t(str(s.channels)), _t(samples, style),
-                      _t(needed))
+    table = _table(
+        "stream",
+        "sample rate",
+        "channels",
+        "samples in budget",
+        "needed (≥ 10 samples)",
+        title="Sample rate against the stop-latency budget",
+    )
+    for rate in result.logging.streams:
+        samples = "–" if rate.samples_in_budget is None else f"{rate.samples_in_budget:.3g}"
+        needed = "–" if rate.required_rate is None else fmt(rate.required_rate, rate.rate_unit)
+        style = "" if rate.adequate in (True, None) else "yellow"
+        table.add_row(
+            _t(rate.stream),
+            _t(fmt(rate.sample_rate, rate.rate_unit)),
+            _t(str(rate.channels)),
+            _t(samples, style),
+            _t(needed),
+        )
     parts.append(Padding(table, (0, 0, 0, 2)))
     wide = [f for f in result.findings if f.code != "R106" and _kind_of(f) in ("protocol", "stream", None)]
     parts.append(_findings_block(wide))
@@ -401,9 +538,12 @@ def _caution_block(row: CautionRow) -> RenderableType:
             if c.loosens:
                 state = "applied, LOOSENS"
             note = f"{state}" + (f" — {c.note}" if c.note and not c.loosens else "")
-            table.add_row(_t(f"{c.target_kind} {c.target}"), _t(f"{c.quantity} {c.part}"),
-                          _t(f"{fmt(c.before, c.unit)} → {fmt(c.after, c.unit)}"),
-                          _t(note, "yellow" if c.loosens else ("dim" if not c.applied else "")))
+            table.add_row(
+                _t(f"{c.target_kind} {c.target}"),
+                _t(f"{c.quantity} {c.part}"),
+                _t(f"{fmt(c.before, c.unit)} → {fmt(c.after, c.unit)}"),
+                _t(note, "yellow" if c.loosens else ("dim" if not c.applied else "")),
+            )
         lines.append(Padding(table, (0, 0, 0, 2)))
     elif row.applied:
         lines.append(Padding(_t("changes no limit", "dim"), (0, 0, 0, 2)))

@@ -16,7 +16,15 @@ from pathlib import Path
 from bracer.findings import Finding, Severity
 from bracer.protocol.load import LoadedProtocol
 from bracer.protocol.resolve import Resolution, resolve
-from bracer.review.checks import MODULES
+from bracer.review.checks import (
+    cautions,
+    completeness,
+    contact_reference,
+    layer_order,
+    logging_rate,
+    room_to_stop,
+    torque_force,
+)
 from bracer.review.checks._base import CheckResult
 from bracer.review.checks.cautions import CautionsResult
 from bracer.review.checks.completeness import CompletenessResult
@@ -30,8 +38,10 @@ __all__ = ["STATEMENT", "InputRecord", "ReviewResult", "review", "run_checks"]
 
 #: What every rendering of a review says about itself.
 STATEMENT = (
-    "This review is verification evidence for the study team, not a certification of the device or the protocol. "
-    "Reference values are from healthy adults and are not clinical limits. Decisions rest with the responsible "
+    "This review is verification evidence for the study team, not a certification of the device or the "
+    "protocol. "
+    "Reference values are from healthy adults and are not clinical limits. Decisions rest with the "
+    "responsible "
     "clinician, the ethics committee and local regulations."
 )
 
@@ -66,8 +76,15 @@ class ReviewResult:
     @property
     def checks(self) -> tuple[CheckResult, ...]:
         """The check results in the order the review runs them (R101 … R107)."""
-        return (self.completeness, self.layer_order, self.room_to_stop, self.contact_reference, self.torque_force,
-                self.cautions, self.logging)
+        return (
+            self.completeness,
+            self.layer_order,
+            self.room_to_stop,
+            self.contact_reference,
+            self.torque_force,
+            self.cautions,
+            self.logging,
+        )
 
     @property
     def findings(self) -> tuple[Finding, ...]:
@@ -82,12 +99,21 @@ class ReviewResult:
 
 def run_checks(resolution: Resolution, inputs: tuple[InputRecord, ...] = ()) -> ReviewResult:
     """Run R101–R107 on an already resolved protocol (for callers that build protocols in code)."""
-    results = [module.run(resolution) for module in MODULES]
-    return ReviewResult(resolution, *results, inputs=inputs)  # type: ignore[arg-type]
+    return ReviewResult(
+        resolution,
+        completeness.run(resolution),
+        layer_order.run(resolution),
+        room_to_stop.run(resolution),
+        contact_reference.run(resolution),
+        torque_force.run(resolution),
+        cautions.run(resolution),
+        logging_rate.run(resolution),
+        inputs=inputs,
+    )
 
 
 def review(loaded: LoadedProtocol, participant_code: str | None = None) -> ReviewResult:
-    """Review a loaded protocol for one participant, or the nominal protocol when ``participant_code`` is None.
+    """Review a loaded protocol for one participant, or the nominal protocol (``participant_code`` None).
 
     Raises
     ------
@@ -97,9 +123,8 @@ def review(loaded: LoadedProtocol, participant_code: str | None = None) -> Revie
     from bracer.reference import sha256, table_paths
 
     resolution = resolve(loaded.protocol, participant_code)
-    inputs = (InputRecord("protocol", str(loaded.path), _sha256(loaded.path)),) + tuple(
-        InputRecord("reference table", str(path), sha256(path)) for path in table_paths().values()
-    )
+    tables = [InputRecord("reference table", str(path), sha256(path)) for path in table_paths().values()]
+    inputs = (InputRecord("protocol", str(loaded.path), _sha256(loaded.path)), *tables)
     return run_checks(resolution, inputs)
 
 

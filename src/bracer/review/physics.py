@@ -7,8 +7,8 @@ few dozen numbers, and its start-up must stay fast.
 Stopping with constant deceleration ``a`` after a reaction delay ``t_r`` (any kinematics text):
 
 * distance ``d = v·t_r + v²/(2a)``, time ``t = t_r + v/a``;
-* the largest speed that stops within a distance ``d``: ``v = a·(−t_r + √(t_r² + 2d/a))`` (the positive root of
-  ``v²/(2a) + v·t_r − d = 0``), and within a time ``t``: ``v = a·(t − t_r)``.
+* the largest speed that stops within a distance ``d``: ``v = a·(−t_r + √(t_r² + 2d/a))`` (the positive root
+  of ``v²/(2a) + v·t_r − d = 0``), and within a time ``t``: ``v = a·(t − t_r)``.
 
 Transient contact, two-body model of ISO/TS 15066:2016 Annex A: energy ``E = F²/(2k)``, reduced mass
 ``μ = (1/m_H + 1/m_R)⁻¹`` and the largest relative speed ``v = F/√(μ·k)``.
@@ -87,7 +87,7 @@ def largest_speed_within_distance(room: float, reaction_time: float, deceleratio
 
 
 def largest_speed_within_time(budget: float, reaction_time: float, deceleration: float) -> float:
-    """The largest speed from which a stop ends within ``budget`` seconds: ``a·(budget − t_r)``, at least 0."""
+    """The largest speed from which a stop ends within ``budget`` (s): ``a·(budget − t_r)``, at least 0."""
     _check_stop_inputs(0.0, reaction_time, deceleration)
     return max(0.0, deceleration * (budget - reaction_time))
 

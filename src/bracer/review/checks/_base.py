@@ -12,9 +12,9 @@ from bracer.units import Quantity, format_number, parse_unit
 __all__ = [
     "DIRECTIONS",
     "CheckResult",
-    "difference",
     "Direction",
     "SubjectKind",
+    "difference",
     "end_label",
     "fmt",
     "in_unit",
@@ -88,7 +88,7 @@ def in_unit(si: float, unit: str) -> float:
 
 
 def value_in(q: Quantity, unit: str) -> float:
-    """``q`` in ``unit``: the declared magnitude itself when ``q`` was declared in ``unit`` (no round trip)."""
+    """``q`` in ``unit``: the declared magnitude itself when ``q`` was declared in ``unit``."""
     return q.magnitude if q.unit == unit else in_unit(q.si, unit)
 
 

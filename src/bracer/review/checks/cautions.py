@@ -74,9 +74,19 @@ class CautionsResult(CheckResult):
 
 def _row(change: Change) -> ChangeRow:
     unit = change.before.unit
-    return ChangeRow(change.target_kind, change.target, change.quantity, change.part,
-                     change.before.magnitude, value_in(change.after, unit), unit, change.applied,
-                     change.loosens, change.justification, change.note)
+    return ChangeRow(
+        change.target_kind,
+        change.target,
+        change.quantity,
+        change.part,
+        change.before.magnitude,
+        value_in(change.after, unit),
+        unit,
+        change.applied,
+        change.loosens,
+        change.justification,
+        change.note,
+    )
 
 
 def run(resolution: Resolution) -> CautionsResult:
@@ -84,14 +94,25 @@ def run(resolution: Resolution) -> CautionsResult:
     p = resolution.protocol
     findings: list[Finding] = []
 
-    def add(severity: Severity, message: str, subject: str | None, kind: SubjectKind | None, **fields: Any) -> None:
-        findings.append(review_finding(CHECK, severity, message, subject=subject, subject_kind=kind, **fields))
+    def add(
+        severity: Severity, message: str, subject: str | None, kind: SubjectKind | None, **fields: Any
+    ) -> None:
+        findings.append(
+            review_finding(CHECK, severity, message, subject=subject, subject_kind=kind, **fields)
+        )
 
     if resolution.participant is None:
-        rows = tuple(CautionRow("caution", cid, c.text, c.population, False, ()) for cid, c in p.cautions.items())
-        add(Severity.INFO, "nominal review (no participant): no caution or override is applied"
+        rows = tuple(
+            CautionRow("caution", cid, c.text, c.population, False, ()) for cid, c in p.cautions.items()
+        )
+        add(
+            Severity.INFO,
+            "nominal review (no participant): no caution or override is applied"
             + (f"; the protocol declares {len(rows)} caution(s): {', '.join(p.cautions)}" if rows else ""),
-            None, "protocol", quantity="caution")
+            None,
+            "protocol",
+            quantity="caution",
+        )
         return CautionsResult(CHECK, tuple(findings), rows)
 
     rows_list = []
@@ -100,28 +121,51 @@ def run(resolution: Resolution) -> CautionsResult:
         changes = tuple(_row(c) for c in resolution.changes if c.source_kind == "caution" and c.source == cid)
         rows_list.append(CautionRow("caution", cid, caution.text, caution.population, True, changes))
         if not caution.effects:
-            add(Severity.INFO, f"caution '{cid}' has no structured effect on any limit; it is shown to the "
-                "clinician as written", None, "protocol", quantity="caution", extra=(("caution", cid),))
+            add(
+                Severity.INFO,
+                f"caution '{cid}' has no structured effect on any limit; it is shown to the "
+                "clinician as written",
+                None,
+                "protocol",
+                quantity="caution",
+                extra=(("caution", cid),),
+            )
     for i, override in enumerate(resolution.participant.overrides, start=1):
         source = f"override {i}"  # as bracer.protocol.resolve names them
-        changes = tuple(_row(c) for c in resolution.changes if c.source_kind == "override" and c.source == source)
+        changes = tuple(
+            _row(c) for c in resolution.changes if c.source_kind == "override" and c.source == source
+        )
         rows_list.append(CautionRow("override", source, override.justification, None, True, changes))
 
     for change in resolution.changes:
         if change.loosens and change.justification:
             row = _row(change)
-            add(Severity.WARNING,
+            add(
+                Severity.WARNING,
                 f"{change.source} loosens the {change.quantity} limit {change.part} of {change.target_kind} "
                 f"'{change.target}' from {fmt(row.before, row.unit)} to {fmt(row.after, row.unit)}; "
-                f"justification given: \"{change.justification}\" — the responsible clinician must have approved it",
-                change.target, change.target_kind, quantity=change.quantity, layer=change.part.split(".")[0]
-                if change.target_kind == "joint" else None, value=row.after, limit=row.before, unit=row.unit,
-                extra=(("source", change.source), ("part", change.part)))
+                f'justification given: "{change.justification}" — the responsible clinician must have '
+                "approved it",
+                change.target,
+                change.target_kind,
+                quantity=change.quantity,
+                layer=change.part.split(".")[0] if change.target_kind == "joint" else None,
+                value=row.after,
+                limit=row.before,
+                unit=row.unit,
+                extra=(("source", change.source), ("part", change.part)),
+            )
     for problem in resolution.problems:
-        kind: SubjectKind | None = ("joint" if problem.target in p.joints else
-                                    "contact" if problem.target in p.contacts else None)
+        kind: SubjectKind | None = (
+            "joint" if problem.target in p.joints else "contact" if problem.target in p.contacts else None
+        )
         severity = Severity.WARNING if problem.severity == "warning" else Severity.ERROR
         label = f"caution '{problem.source}'" if problem.source_kind == "caution" else problem.source
-        add(severity, f"{label}: {problem.message}", problem.target or None, kind,
-            extra=(("source", problem.source),))
+        add(
+            severity,
+            f"{label}: {problem.message}",
+            problem.target or None,
+            kind,
+            extra=(("source", problem.source),),
+        )
     return CautionsResult(CHECK, tuple(findings), tuple(rows_list))

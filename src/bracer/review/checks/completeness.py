@@ -2,8 +2,9 @@
 
 What is required
 ----------------
-* Each joint has a range, speed, torque (and acceleration) limit in every layer that ``device.layers`` declares
-  for that quantity.  A limit in a layer the protocol does not declare is reviewed anyway and noted (info).
+* Each joint has a range, speed, torque (and acceleration) limit in every layer that ``device.layers``
+  declares for that quantity.  A limit in a layer the protocol does not declare is reviewed anyway and noted
+  (info).
 * Each limit has a channel that measures it: joint position for range; a velocity channel, or speed derived
   from position, for speed; a torque channel for torque; acceleration derived from velocity or position.
 * Each contact has a force limit (the protocol format requires one) and a force channel; pressure is derived
@@ -29,7 +30,7 @@ CHECK = register(
     Check(
         code="R101",
         name="completeness",
-        summary="Every declared limit layer, force limit, measuring channel and the stop function is present.",
+        summary="Every declared limit layer, force limit, measuring channel and the stop function is there.",
         severity=Severity.ERROR,
         needs=("device.layers", "joints", "contacts", "stop", "logging"),
     )
@@ -71,10 +72,12 @@ class _Collector:
     def row(self, kind: SubjectKind, subject: str | None, item: str, status: Status, detail: str) -> None:
         self.rows.append(Requirement(kind, subject, item, status, detail))
 
-    def finding(self, severity: Severity, message: str, kind: SubjectKind, subject: str | None,
-                **fields: Any) -> None:
-        self.findings.append(review_finding(CHECK, severity, message, subject=subject, subject_kind=kind,
-                                            **fields))
+    def finding(
+        self, severity: Severity, message: str, kind: SubjectKind, subject: str | None, **fields: Any
+    ) -> None:
+        self.findings.append(
+            review_finding(CHECK, severity, message, subject=subject, subject_kind=kind, **fields)
+        )
 
 
 def run(resolution: Resolution) -> CompletenessResult:
@@ -98,20 +101,29 @@ def _joint_layers(out: _Collector, p: Protocol, name: str, joint: Joint) -> None
             value = layers.layer(layer)
             item = f"{quantity}.{layer}"
             if layer in declared and value is None:
-                out.row("joint", name, item, "missing", f"device.layers.{quantity} declares the {layer} layer")
+                out.row(
+                    "joint", name, item, "missing", f"device.layers.{quantity} declares the {layer} layer"
+                )
                 out.finding(
                     Severity.ERROR,
                     f"joint '{name}' has no {layer} {quantity} limit, which the protocol declares "
                     f"(device.layers.{quantity}: {', '.join(declared)})",
-                    "joint", name, quantity=quantity, layer=layer,
+                    "joint",
+                    name,
+                    quantity=quantity,
+                    layer=layer,
                 )
             elif value is not None and layer not in declared:
                 out.row("joint", name, item, "undeclared layer", str(value))
                 out.finding(
                     Severity.INFO,
-                    f"joint '{name}' gives a {layer} {quantity} limit ({value}) although device.layers.{quantity} "
+                    f"joint '{name}' gives a {layer} {quantity} limit ({value}) although "
+                    f"device.layers.{quantity} "
                     f"does not list the {layer} layer; it is reviewed all the same",
-                    "joint", name, quantity=quantity, layer=layer,
+                    "joint",
+                    name,
+                    quantity=quantity,
+                    layer=layer,
                 )
             elif value is not None:
                 out.row("joint", name, item, "present", str(value))
@@ -133,40 +145,76 @@ def _joint_channels(out: _Collector, name: str, joint: Joint) -> None:
         out.row("joint", name, "channel.position", "present", _channel_text(ch.position))
     elif needs_position:
         out.row("joint", name, "channel.position", "missing", "range limits need a position channel")
-        out.finding(Severity.ERROR, f"joint '{name}' has range limits but no position channel measures them",
-                    "joint", name, quantity="position")
+        out.finding(
+            Severity.ERROR,
+            f"joint '{name}' has range limits but no position channel measures them",
+            "joint",
+            name,
+            quantity="position",
+        )
 
     if _has_limit(joint, "speed"):
         if ch.velocity is not None:
             out.row("joint", name, "channel.velocity", "present", _channel_text(ch.velocity))
         elif ch.position is not None:
-            out.row("joint", name, "channel.velocity", "derived",
-                    f"speed derived from position ({_channel_text(ch.position)})")
+            out.row(
+                "joint",
+                name,
+                "channel.velocity",
+                "derived",
+                f"speed derived from position ({_channel_text(ch.position)})",
+            )
         else:
-            out.row("joint", name, "channel.velocity", "missing", "no velocity channel and no position to derive it")
-            out.finding(Severity.ERROR,
-                        f"joint '{name}' has speed limits but neither a velocity channel nor a position channel "
-                        "to derive speed from", "joint", name, quantity="speed")
+            out.row(
+                "joint",
+                name,
+                "channel.velocity",
+                "missing",
+                "no velocity channel and no position to derive it",
+            )
+            out.finding(
+                Severity.ERROR,
+                f"joint '{name}' has speed limits but neither a velocity channel nor a position channel "
+                "to derive speed from",
+                "joint",
+                name,
+                quantity="speed",
+            )
 
     if _has_limit(joint, "torque"):
         if ch.torque is not None:
             out.row("joint", name, "channel.torque", "present", _channel_text(ch.torque))
         else:
             out.row("joint", name, "channel.torque", "missing", "torque limits need a torque channel")
-            out.finding(Severity.ERROR, f"joint '{name}' has torque limits but no torque channel measures them",
-                        "joint", name, quantity="torque")
+            out.finding(
+                Severity.ERROR,
+                f"joint '{name}' has torque limits but no torque channel measures them",
+                "joint",
+                name,
+                quantity="torque",
+            )
 
     if _has_limit(joint, "acceleration"):
         source = ch.velocity or ch.position
         if source is not None:
-            out.row("joint", name, "channel.acceleration", "derived",
-                    f"acceleration derived from {'velocity' if ch.velocity else 'position'} "
-                    f"({_channel_text(source)})")
+            out.row(
+                "joint",
+                name,
+                "channel.acceleration",
+                "derived",
+                f"acceleration derived from {'velocity' if ch.velocity else 'position'} "
+                f"({_channel_text(source)})",
+            )
         else:
             out.row("joint", name, "channel.acceleration", "missing", "no velocity or position to derive it")
-            out.finding(Severity.ERROR,
-                        f"joint '{name}' has acceleration limits but no velocity or position channel to derive "
-                        "acceleration from", "joint", name, quantity="acceleration")
+            out.finding(
+                Severity.ERROR,
+                f"joint '{name}' has acceleration limits but no velocity or position channel to derive "
+                "acceleration from",
+                "joint",
+                name,
+                quantity="acceleration",
+            )
 
 
 def _contact(out: _Collector, name: str, contact: Contact) -> None:
@@ -179,8 +227,13 @@ def _contact(out: _Collector, name: str, contact: Contact) -> None:
         limits = getattr(contact, group)
         if limits is None:
             out.row("contact", name, group, "not declared", f"no {group} limit")
-            out.finding(Severity.INFO, f"contact '{name}' declares no {group} limit; it is not reviewed or audited",
-                        "contact", name, quantity=group)
+            out.finding(
+                Severity.INFO,
+                f"contact '{name}' declares no {group} limit; it is not reviewed or audited",
+                "contact",
+                name,
+                quantity=group,
+            )
         else:
             first = limits.quasi_static if group == "pressure" else limits.level
             out.row("contact", name, group, "present", str(first))
@@ -189,8 +242,13 @@ def _contact(out: _Collector, name: str, contact: Contact) -> None:
     if force is not None:
         cols = ", ".join(f"'{c}'" for c in force.all_columns)
         how = f" ({force.use}{' ' + force.axis if force.axis else ''})" if force.columns else ""
-        out.row("contact", name, "channel.force", "present",
-                f"column(s) {cols}{how} [{force.unit}] in stream '{force.stream}'")
+        out.row(
+            "contact",
+            name,
+            "channel.force",
+            "present",
+            f"column(s) {cols}{how} [{force.unit}] in stream '{force.stream}'",
+        )
         out.row("contact", name, "channel.pressure", "derived", f"force ÷ contact area ({contact.area})")
     else:
         out.row("contact", name, "channel.force", "missing", "the force limit needs a force channel")
@@ -199,31 +257,60 @@ def _contact(out: _Collector, name: str, contact: Contact) -> None:
             Severity.ERROR,
             f"contact '{name}' has no force channel: its force, pressure (force ÷ area) and sustained-force "
             "limits cannot be measured",
-            "contact", name, quantity="force",
+            "contact",
+            name,
+            quantity="force",
         )
 
 
 def _stop(out: _Collector, p: Protocol) -> None:
     if p.stop is None:
         out.row("protocol", None, "stop function", "missing", "no 'stop' section")
-        out.finding(Severity.ERROR, "no stop function declared: stop category, latency budget, reaction time and "
-                    "standstill are all unknown", "protocol", None, quantity="stop")
+        out.finding(
+            Severity.ERROR,
+            "no stop function declared: stop category, latency budget, reaction time and "
+            "standstill are all unknown",
+            "protocol",
+            None,
+            quantity="stop",
+        )
     else:
         s = p.stop
-        out.row("protocol", None, "stop function", "present",
-                f"category {s.category}, budget {s.latency_budget}, reaction {s.reaction_time}")
+        out.row(
+            "protocol",
+            None,
+            "stop function",
+            "present",
+            f"category {s.category}, budget {s.latency_budget}, reaction {s.reaction_time}",
+        )
     triggers = p.logging.triggers
     for kind in ("emergency_stop", "protective_stop", "safety_state"):
         trig = triggers.get(kind)  # type: ignore[call-overload]
         if trig is not None:
-            out.row("protocol", None, f"trigger.{kind}", "present",
-                    f"column '{trig.column}' in stream '{trig.stream}'")
+            out.row(
+                "protocol",
+                None,
+                f"trigger.{kind}",
+                "present",
+                f"column '{trig.column}' in stream '{trig.stream}'",
+            )
         else:
             out.row("protocol", None, f"trigger.{kind}", "not declared", "no trigger channel")
     if not triggers:
-        out.finding(Severity.ERROR, "no stop trigger channel (emergency stop, protective stop or safety state) is "
-                    "logged: no stop can be found or timed in a session log", "protocol", None,
-                    quantity="trigger")
+        out.finding(
+            Severity.ERROR,
+            "no stop trigger channel (emergency stop, protective stop or safety state) is "
+            "logged: no stop can be found or timed in a session log",
+            "protocol",
+            None,
+            quantity="trigger",
+        )
     elif "emergency_stop" not in triggers:
-        out.finding(Severity.WARNING, "no emergency-stop trigger channel is logged: emergency stops cannot be timed "
-                    "against the latency budget", "protocol", None, quantity="trigger")
+        out.finding(
+            Severity.WARNING,
+            "no emergency-stop trigger channel is logged: emergency stops cannot be timed "
+            "against the latency budget",
+            "protocol",
+            None,
+            quantity="trigger",
+        )

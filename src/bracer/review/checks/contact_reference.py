@@ -107,24 +107,31 @@ def reference_for(contact: Contact) -> tuple[RegionReference | None, str | None]
         return _region(match, rows, matched=True), None
     lowest = min(rows, key=lambda r: r.pressure_n_per_cm2)
     if not wanted:
-        note = (f"no specific area given: the lowest reference pressure of region '{contact.body_region}' "
-                f"({lowest.specific_area}, {fmt(lowest.pressure_n_per_cm2, _PRESSURE_UNIT)}) is used (conservative)")
+        note = (
+            f"no specific area given: the lowest reference pressure of region '{contact.body_region}' "
+            f"({lowest.specific_area}, {fmt(lowest.pressure_n_per_cm2, _PRESSURE_UNIT)}) is used "
+            "(conservative)"
+        )
     else:
         areas = [r.specific_area for r in rows]
         hint = difflib.get_close_matches(wanted, areas, n=1, cutoff=0.6)
         did = f" (did you mean '{hint[0]}'?)" if hint else f" (areas of this region: {', '.join(areas)})"
-        note = (f"specific area '{contact.specific_area}' is not in the reference table for region "
-                f"'{contact.body_region}'{did}, so the lowest reference pressure of the region "
-                f"({lowest.specific_area}, {fmt(lowest.pressure_n_per_cm2, _PRESSURE_UNIT)}) is used (conservative)")
+        note = (
+            f"specific area '{contact.specific_area}' is not in the reference table for region "
+            f"'{contact.body_region}'{did}, so the lowest reference pressure of the region "
+            f"({lowest.specific_area}, {fmt(lowest.pressure_n_per_cm2, _PRESSURE_UNIT)}) is used "
+            "(conservative)"
+        )
     return _region(lowest, rows, matched=False), note
 
 
 def _region(row: BodyRegionLimit, rows: list[BodyRegionLimit], *, matched: bool) -> RegionReference:
-    # Force and transient factor: the row's own where the area matched, else the most conservative of the region.
+    # Force and transient factor: the row's own where the area matched, else the region's most conservative.
     force = row.force_n if matched else min(r.force_n for r in rows)
     factor = row.transient_factor if matched else min(r.transient_factor for r in rows)
-    return RegionReference(row.region, row.specific_area, matched, force, row.pressure_pa, factor, row.confidence,
-                           row.source)
+    return RegionReference(
+        row.region, row.specific_area, matched, force, row.pressure_pa, factor, row.confidence, row.source
+    )
 
 
 def run(resolution: Resolution) -> ContactReferenceResult:
@@ -138,32 +145,49 @@ def run(resolution: Resolution) -> ContactReferenceResult:
 
 def _contact(findings: list[Finding], name: str, contact: Contact) -> list[ContactReference]:
     def add(severity: Severity, message: str, **fields: Any) -> None:
-        findings.append(review_finding(CHECK, severity, message, subject=name, subject_kind="contact", **fields))
+        findings.append(
+            review_finding(CHECK, severity, message, subject=name, subject_kind="contact", **fields)
+        )
 
     ref, note = reference_for(contact)
     if ref is None:
-        add(Severity.INFO, f"contact '{name}': no reference value for body region '{contact.body_region}' in the "
+        add(
+            Severity.INFO,
+            f"contact '{name}': no reference value for body region '{contact.body_region}' in the "
             "ISO/TS 15066 Annex A table; its force and pressure limits are not compared with one",
-            quantity="force")
+            quantity="force",
+        )
         return []
     if note is not None:
-        add(Severity.INFO if not contact.specific_area else Severity.WARNING, f"contact '{name}': {note}",
-            quantity="pressure")
+        add(
+            Severity.INFO if not contact.specific_area else Severity.WARNING,
+            f"contact '{name}': {note}",
+            quantity="pressure",
+        )
 
     # (quantity, item, basis, value SI, value unit, reference SI)
     candidates: list[tuple[str, str, str, float, str, float]] = []
     force = contact.force
     area = contact.area.si
-    forces = [(item, limit, factor) for item, limit, factor in (
-        ("quasi_static", force.quasi_static, 1.0), ("transient", force.transient, ref.transient_factor))
-        if limit is not None]
+    forces = [
+        (item, limit, factor)
+        for item, limit, factor in (
+            ("quasi_static", force.quasi_static, 1.0),
+            ("transient", force.transient, ref.transient_factor),
+        )
+        if limit is not None
+    ]
     for item, limit, factor in forces:
         candidates.append(("force", item, "limit", limit.si, limit.unit, factor * ref.force_n))
     for item, limit, factor in forces:
-        candidates.append(("pressure", item, "force ÷ area", limit.si / area, _PRESSURE_UNIT, factor * ref.pressure_pa))
+        candidates.append(
+            ("pressure", item, "force ÷ area", limit.si / area, _PRESSURE_UNIT, factor * ref.pressure_pa)
+        )
     if contact.pressure is not None:
-        for item, limit, factor in (("quasi_static", contact.pressure.quasi_static, 1.0),
-                                    ("transient", contact.pressure.transient, ref.transient_factor)):
+        for item, limit, factor in (
+            ("quasi_static", contact.pressure.quasi_static, 1.0),
+            ("transient", contact.pressure.transient, ref.transient_factor),
+        ):
             if limit is not None:
                 candidates.append(("pressure", item, "limit", limit.si, limit.unit, factor * ref.pressure_pa))
 
@@ -172,22 +196,48 @@ def _contact(findings: list[Finding], name: str, contact: Contact) -> list[Conta
     for quantity, item, basis, value_si, unit, ref_si in candidates:
         ratio = value_si / ref_si if ref_si > 0 else None
         row_note = "" if ref_si > 0 else "transient contact not permissible in this region"
-        row = ContactReference(name, ref.region, area_label, quantity, item, basis, in_unit(value_si, unit),
-                               in_unit(ref_si, unit), unit, ratio, row_note)
+        row = ContactReference(
+            name,
+            ref.region,
+            area_label,
+            quantity,
+            item,
+            basis,
+            in_unit(value_si, unit),
+            in_unit(ref_si, unit),
+            unit,
+            ratio,
+            row_note,
+        )
         rows.append(row)
-        what = f"{item.replace('_', '-')} {quantity} " + ("limit" if basis == "limit" else "implied by the force "
-                                                           f"limit over the contact area ({contact.area})")
+        what = f"{item.replace('_', '-')} {quantity} " + (
+            "limit"
+            if basis == "limit"
+            else f"implied by the force limit over the contact area ({contact.area})"
+        )
         if ratio is None and basis == "limit":
-            add(Severity.ERROR,
-                f"contact '{name}': a {what} of {fmt(row.value, unit)} is declared, but transient contact is not "
+            add(
+                Severity.ERROR,
+                f"contact '{name}': a {what} of {fmt(row.value, unit)} is declared, but transient contact is "
+                "not "
                 f"permissible in body region '{ref.region}' ({CAVEAT})",
-                quantity=quantity, value=row.value, limit=0.0, unit=unit,
-                extra=(("item", item), ("basis", basis)))
+                quantity=quantity,
+                value=row.value,
+                limit=0.0,
+                unit=unit,
+                extra=(("item", item), ("basis", basis)),
+            )
         elif ratio is not None and ratio > 1:
-            add(Severity.WARNING,
-                f"contact '{name}': the {what} ({fmt(row.value, unit)}) is {ratio:.2f}× the reference value of "
+            add(
+                Severity.WARNING,
+                f"contact '{name}': the {what} ({fmt(row.value, unit)}) is {ratio:.2f}× the reference value "
+                "of "
                 f"{fmt(row.reference, unit)} for region '{ref.region}', {area_label}; these are {CAVEAT}",
-                quantity=quantity, value=row.value, limit=row.reference,
-                margin=row.reference - row.value, unit=unit,
-                extra=(("item", item), ("basis", basis), ("ratio", ratio)))
+                quantity=quantity,
+                value=row.value,
+                limit=row.reference,
+                margin=row.reference - row.value,
+                unit=unit,
+                extra=(("item", item), ("basis", basis), ("ratio", ratio)),
+            )
     return rows

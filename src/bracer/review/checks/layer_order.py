@@ -14,6 +14,7 @@ controller keeps the joint inside it.
 
 from __future__ import annotations
 
+import itertools
 from dataclasses import dataclass
 from typing import Any, Literal
 
@@ -123,7 +124,7 @@ def _outward(quantity: str, direction: Direction) -> float:
 
 def _declared(joint: Joint, quantity: str, direction: Direction) -> list[tuple[str, Quantity]]:
     layers = getattr(joint, quantity)
-    out = []
+    out: list[tuple[str, Quantity]] = []
     for layer in LAYERS:
         value = layers.layer(layer)
         if value is not None:
@@ -139,25 +140,50 @@ def _layers(findings: list[Finding], name: str, joint: Joint, direction: Directi
             continue
         unit = values[0][1].unit
         sign = _outward(quantity, direction)
-        for (inner_layer, inner), (outer_layer, outer) in zip(values, values[1:], strict=False):
+        for (inner_layer, inner), (outer_layer, outer) in itertools.pairwise(values):
             margin = sign * difference(outer, inner, unit)
-            row = LayerMargin(name, quantity, direction, inner_layer, outer_layer, value_in(inner, unit),
-                              value_in(outer, unit), margin, unit, margin >= 0)
+            row = LayerMargin(
+                name,
+                quantity,
+                direction,
+                inner_layer,
+                outer_layer,
+                value_in(inner, unit),
+                value_in(outer, unit),
+                margin,
+                unit,
+                margin >= 0,
+            )
             rows.append(row)
             if margin < 0:
-                findings.append(review_finding(
-                    CHECK, Severity.ERROR,
-                    f"joint '{name}' {end_label(joint, direction)}: the {inner_layer} {quantity} limit "
-                    f"({fmt(row.inner_value, unit)}) lies {fmt(-margin, unit)} beyond the {outer_layer} limit "
-                    f"({fmt(row.outer_value, unit)})",
-                    subject=name, subject_kind="joint", quantity=quantity, direction=direction, layer=inner_layer,
-                    value=row.inner_value, limit=row.outer_value, margin=margin, unit=unit,
-                ))
+                findings.append(
+                    review_finding(
+                        CHECK,
+                        Severity.ERROR,
+                        f"joint '{name}' {end_label(joint, direction)}: the {inner_layer} {quantity} limit "
+                        f"({fmt(row.inner_value, unit)}) lies {fmt(-margin, unit)} beyond the {outer_layer} "
+                        "limit "
+                        f"({fmt(row.outer_value, unit)})",
+                        subject=name,
+                        subject_kind="joint",
+                        quantity=quantity,
+                        direction=direction,
+                        layer=inner_layer,
+                        value=row.inner_value,
+                        limit=row.outer_value,
+                        margin=margin,
+                        unit=unit,
+                    )
+                )
     return rows
 
 
 def _participant(
-    findings: list[Finding], name: str, joint: Joint, direction: Direction, rom: ParticipantRange,
+    findings: list[Finding],
+    name: str,
+    joint: Joint,
+    direction: Direction,
+    rom: ParticipantRange,
     code: str | None,
 ) -> tuple[Protection | None, list[LayerMargin]]:
     values = _declared(joint, "range", direction)
@@ -175,29 +201,71 @@ def _participant(
         return value_in(q, unit) if q is not None else None
 
     if limit is None:
-        findings.append(review_finding(
-            CHECK, Severity.WARNING,
-            f"joint '{name}' {end_label(joint, direction)}: no measured or normative range of motion for {who}; "
-            "the planned limit and the layers of protection in this direction are not assessed",
-            subject=name, subject_kind="joint", quantity="range", direction=direction, layer="participant",
-        ))
-        prot = Protection(name, direction, None, None, value("planned"), value("device"), value("mechanical"),
-                          unit, None, "not assessable", "no participant range in this direction")
+        findings.append(
+            review_finding(
+                CHECK,
+                Severity.WARNING,
+                f"joint '{name}' {end_label(joint, direction)}: no measured or normative range of motion for "
+                f"{who}; "
+                "the planned limit and the layers of protection in this direction are not assessed",
+                subject=name,
+                subject_kind="joint",
+                quantity="range",
+                direction=direction,
+                layer="participant",
+            )
+        )
+        prot = Protection(
+            name,
+            direction,
+            None,
+            None,
+            value("planned"),
+            value("device"),
+            value("mechanical"),
+            unit,
+            None,
+            "not assessable",
+            "no participant range in this direction",
+        )
         return prot, []
 
     rom_value = value_in(limit, unit)
     margin = sign * difference(limit, inner, unit)
-    row = LayerMargin(name, "range", direction, inner_layer, "participant", value_in(inner, unit), rom_value,
-                      margin, unit, margin >= 0)
+    row = LayerMargin(
+        name,
+        "range",
+        direction,
+        inner_layer,
+        "participant",
+        value_in(inner, unit),
+        rom_value,
+        margin,
+        unit,
+        margin >= 0,
+    )
     if margin < 0:
         severity = Severity.ERROR if source == "measured" else Severity.WARNING
-        findings.append(review_finding(
-            CHECK, severity,
-            f"joint '{name}' {end_label(joint, direction)}: the {inner_layer} range limit ({fmt(row.inner_value, unit)}) "
-            f"lies {fmt(-margin, unit)} beyond the {source} range of motion of {who} ({fmt(rom_value, unit)})",
-            subject=name, subject_kind="joint", quantity="range", direction=direction, layer=inner_layer,
-            value=row.inner_value, limit=rom_value, margin=margin, unit=unit, extra=(("rom_source", source),),
-        ))
+        findings.append(
+            review_finding(
+                CHECK,
+                severity,
+                f"joint '{name}' {end_label(joint, direction)}: the {inner_layer} range limit "
+                f"({fmt(row.inner_value, unit)}) "
+                f"lies {fmt(-margin, unit)} beyond the {source} range of motion of {who} "
+                f"({fmt(rom_value, unit)})",
+                subject=name,
+                subject_kind="joint",
+                quantity="range",
+                direction=direction,
+                layer=inner_layer,
+                value=row.inner_value,
+                limit=rom_value,
+                margin=margin,
+                unit=unit,
+                extra=(("rom_source", source),),
+            )
+        )
 
     mechanical = by_layer.get("mechanical")
     if mechanical is None:
@@ -208,39 +276,77 @@ def _participant(
     else:
         beyond = sign * difference(mechanical, limit, unit)
         layers = "controller only" if beyond > 0 else "controller and mechanical stop"
-        note = (f"mechanical end stop {fmt(beyond, unit)} beyond the participant's range" if beyond > 0
-                else "mechanical end stop at or inside the participant's range")
-        detail = (f"the mechanical end stop ({fmt(value('mechanical'), unit)}) lies {fmt(beyond, unit)} beyond the "
-                  f"{source} range of motion ({fmt(rom_value, unit)})")
+        note = (
+            f"mechanical end stop {fmt(beyond, unit)} beyond the participant's range"
+            if beyond > 0
+            else "mechanical end stop at or inside the participant's range"
+        )
+        detail = (
+            f"the mechanical end stop ({fmt(value('mechanical'), unit)}) lies {fmt(beyond, unit)} beyond the "
+            f"{source} range of motion ({fmt(rom_value, unit)})"
+        )
     if layers == "controller only":
         device = by_layer.get("device")
         also = ""
         if device is not None and sign * difference(device, limit, unit) > 0:
-            also = "; the device limit lies beyond that range too, so only the planned limit keeps the joint inside it"
-        findings.append(review_finding(
-            CHECK, Severity.WARNING,
-            f"joint '{name}' {end_label(joint, direction)}: one layer of protection only — {detail}; the planned and "
-            f"device limits are both enforced by the controller, so only the controller keeps the joint inside "
-            f"the participant's range in this direction{also}",
-            subject=name, subject_kind="joint", quantity="range", direction=direction, layer="mechanical",
-            value=value("mechanical"), limit=rom_value, margin=-beyond if beyond is not None else None, unit=unit,
-            extra=(("rom_source", source), ("protection", "one layer")),
-        ))
-    prot = Protection(name, direction, rom_value, source, value("planned"), value("device"), value("mechanical"),
-                      unit, beyond, layers, note)
+            also = "; the device limit lies beyond it too, so only the planned limit keeps the joint in it"
+        findings.append(
+            review_finding(
+                CHECK,
+                Severity.WARNING,
+                f"joint '{name}' {end_label(joint, direction)}: one layer of protection only — {detail}; the "
+                "planned and "
+                "device limits are both enforced by the controller, so only the controller keeps the joint "
+                "inside "
+                f"the participant's range in this direction{also}",
+                subject=name,
+                subject_kind="joint",
+                quantity="range",
+                direction=direction,
+                layer="mechanical",
+                value=value("mechanical"),
+                limit=rom_value,
+                margin=-beyond if beyond is not None else None,
+                unit=unit,
+                extra=(("rom_source", source), ("protection", "one layer")),
+            )
+        )
+    prot = Protection(
+        name,
+        direction,
+        rom_value,
+        source,
+        value("planned"),
+        value("device"),
+        value("mechanical"),
+        unit,
+        beyond,
+        layers,
+        note,
+    )
     return prot, [row]
 
 
 def _normative(findings: list[Finding], name: str, rom: ParticipantRange, code: str | None) -> None:
     if "normative" not in (rom.min_source, rom.max_source):
         return
-    who = (f"participant {code} has no measured range of motion for this joint" if code
-           else "no participant is selected (nominal review)")
-    findings.append(review_finding(
-        CHECK, Severity.WARNING,
-        f"joint '{name}': {who}, so the normative reference range is used "
-        f"({rom.note.removeprefix('normative reference: ')}); a population value, which the responsible clinician "
-        "should confirm for the participant",
-        subject=name, subject_kind="joint", quantity="range", layer="participant",
-        extra=(("rom_source", "normative"),),
-    ))
+    who = (
+        f"participant {code} has no measured range of motion for this joint"
+        if code
+        else "no participant is selected (nominal review)"
+    )
+    findings.append(
+        review_finding(
+            CHECK,
+            Severity.WARNING,
+            f"joint '{name}': {who}, so the normative reference range is used "
+            f"({rom.note.removeprefix('normative reference: ')}); a population value, which the responsible "
+            "clinician "
+            "should confirm for the participant",
+            subject=name,
+            subject_kind="joint",
+            quantity="range",
+            layer="participant",
+            extra=(("rom_source", "normative"),),
+        )
+    )

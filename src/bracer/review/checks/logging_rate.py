@@ -27,7 +27,7 @@ CHECK = register(
     Check(
         code="R107",
         name="logging-rate",
-        summary=f"Each stream's sample rate puts at least {MIN_SAMPLES} samples inside the stop-latency budget.",
+        summary=f"Each stream's sample rate gives at least {MIN_SAMPLES} samples in the stop-latency budget.",
         severity=Severity.WARNING,
         needs=("logging.streams", "stop.latency_budget"),
     )
@@ -66,8 +66,11 @@ def _channel_counts(p: Protocol) -> dict[str, int]:
     counts = dict.fromkeys(p.logging.streams, 0)
     refs: list[str] = []
     for joint in p.joints.values():
-        refs += [ref.stream for ref in (joint.channels.position, joint.channels.velocity, joint.channels.torque)
-                 if ref is not None]
+        refs += [
+            ref.stream
+            for ref in (joint.channels.position, joint.channels.velocity, joint.channels.torque)
+            if ref is not None
+        ]
     refs += [c.channels.force.stream for c in p.contacts.values() if c.channels.force is not None]
     refs += [t.stream for t in p.logging.triggers.values()]
     refs += [x.stream for x in p.logging.protections.values()]
@@ -84,31 +87,67 @@ def run(resolution: Resolution) -> LoggingResult:
     counts = _channel_counts(p)
     budget = p.stop.latency_budget if p.stop is not None else None
     if budget is None:
-        findings.append(review_finding(
-            CHECK, Severity.WARNING, "logging adequacy not assessable: no stop function, so no stop-latency budget "
-            "to compare the sample rates with", subject_kind="protocol", quantity="sample_rate"))
+        findings.append(
+            review_finding(
+                CHECK,
+                Severity.WARNING,
+                "logging adequacy not assessable: no stop function, so no stop-latency budget "
+                "to compare the sample rates with",
+                subject_kind="protocol",
+                quantity="sample_rate",
+            )
+        )
     for name, stream in p.logging.streams.items():
         rate = stream.sample_rate
         unit = rate.unit
         if budget is None:
-            rows.append(StreamRate(name, in_unit(rate.si, unit), unit, counts[name], None, None, None, None, None))
+            rows.append(
+                StreamRate(name, in_unit(rate.si, unit), unit, counts[name], None, None, None, None, None)
+            )
         else:
             samples = rate.si * budget.si
             required = MIN_SAMPLES / budget.si
-            row = StreamRate(name, in_unit(rate.si, unit), unit, counts[name], in_unit(budget.si, budget.unit),
-                             budget.unit, samples, in_unit(required, unit), samples >= MIN_SAMPLES)
+            row = StreamRate(
+                name,
+                in_unit(rate.si, unit),
+                unit,
+                counts[name],
+                in_unit(budget.si, budget.unit),
+                budget.unit,
+                samples,
+                in_unit(required, unit),
+                samples >= MIN_SAMPLES,
+            )
             rows.append(row)
             if not row.adequate:
-                findings.append(review_finding(
-                    CHECK, Severity.WARNING,
-                    f"stream '{name}': {fmt(row.sample_rate, unit)} gives {samples:.3g} samples inside the stop "
-                    f"latency budget of {fmt(row.budget, budget.unit)}; at least {MIN_SAMPLES} are needed to time a "
-                    f"stop (common practice), i.e. {fmt(row.required_rate, unit)} or more",
-                    subject=name, subject_kind="stream", quantity="sample_rate", value=row.sample_rate,
-                    limit=row.required_rate, margin=row.sample_rate - (row.required_rate or 0.0), unit=unit,
-                    extra=(("samples_in_budget", samples),)))
+                findings.append(
+                    review_finding(
+                        CHECK,
+                        Severity.WARNING,
+                        f"stream '{name}': {fmt(row.sample_rate, unit)} gives {samples:.3g} samples inside "
+                        "the stop "
+                        f"latency budget of {fmt(row.budget, budget.unit)}; at least {MIN_SAMPLES} are "
+                        "needed to time a "
+                        f"stop (common practice), i.e. {fmt(row.required_rate, unit)} or more",
+                        subject=name,
+                        subject_kind="stream",
+                        quantity="sample_rate",
+                        value=row.sample_rate,
+                        limit=row.required_rate,
+                        margin=row.sample_rate - (row.required_rate or 0.0),
+                        unit=unit,
+                        extra=(("samples_in_budget", samples),),
+                    )
+                )
         if counts[name] == 0:
-            findings.append(review_finding(
-                CHECK, Severity.INFO, f"stream '{name}' carries no declared channel", subject=name,
-                subject_kind="stream", quantity="sample_rate"))
+            findings.append(
+                review_finding(
+                    CHECK,
+                    Severity.INFO,
+                    f"stream '{name}' carries no declared channel",
+                    subject=name,
+                    subject_kind="stream",
+                    quantity="sample_rate",
+                )
+            )
     return LoggingResult(CHECK, tuple(findings), tuple(rows))

@@ -49,8 +49,13 @@ CHECK = register(
         summary="Stopping distance and time at the planned speed against the room to the next layer, the "
         "participant's range and the latency budget.",
         severity=Severity.ERROR,
-        needs=("joints.speed", "joints.range", "joints.stop_deceleration", "stop.reaction_time",
-               "stop.latency_budget"),
+        needs=(
+            "joints.speed",
+            "joints.range",
+            "joints.stop_deceleration",
+            "stop.reaction_time",
+            "stop.latency_budget",
+        ),
     )
 )
 
@@ -103,9 +108,16 @@ def run(resolution: Resolution) -> RoomToStopResult:
     findings: list[Finding] = []
     rows: list[StopRoom] = []
     if p.stop is None:
-        findings.append(review_finding(
-            CHECK, Severity.ERROR, "room to stop not assessable: the protocol declares no stop function "
-            "(reaction time and latency budget unknown)", subject_kind="protocol", quantity="stop"))
+        findings.append(
+            review_finding(
+                CHECK,
+                Severity.ERROR,
+                "room to stop not assessable: the protocol declares no stop function "
+                "(reaction time and latency budget unknown)",
+                subject_kind="protocol",
+                quantity="stop",
+            )
+        )
         return RoomToStopResult(CHECK, tuple(findings))
     for name, joint in p.joints.items():
         rows += _joint(findings, resolution, name, joint, p.stop)
@@ -121,19 +133,29 @@ def _innermost(joint: Joint, quantity: str) -> tuple[str, Any] | None:
     return None
 
 
-def _joint(findings: list[Finding], resolution: Resolution, name: str, joint: Joint,
-           stop: StopFunction) -> list[StopRoom]:
+def _joint(
+    findings: list[Finding], resolution: Resolution, name: str, joint: Joint, stop: StopFunction
+) -> list[StopRoom]:
     def add(severity: Severity, message: str, **fields: Any) -> None:
-        findings.append(review_finding(CHECK, severity, message, subject=name, subject_kind="joint", **fields))
+        findings.append(
+            review_finding(CHECK, severity, message, subject=name, subject_kind="joint", **fields)
+        )
 
     speed = _innermost(joint, "speed")
     if speed is None:
-        add(Severity.ERROR, f"joint '{name}': room to stop not assessable, the joint has no speed limit",
-            quantity="speed")
+        add(
+            Severity.ERROR,
+            f"joint '{name}': room to stop not assessable, the joint has no speed limit",
+            quantity="speed",
+        )
         return []
     if joint.stop_deceleration is None:
-        add(Severity.ERROR, f"joint '{name}': room to stop not assessable, no stop_deceleration is declared "
-            "(the deceleration the device applies to this joint during a stop)", quantity="stop_deceleration")
+        add(
+            Severity.ERROR,
+            f"joint '{name}': room to stop not assessable, no stop_deceleration is declared "
+            "(the deceleration the device applies to this joint during a stop)",
+            quantity="stop_deceleration",
+        )
         return []
     speed_layer, speed_limits = speed
     a = joint.stop_deceleration
@@ -142,21 +164,20 @@ def _joint(findings: list[Finding], resolution: Resolution, name: str, joint: Jo
     rom = participant_range(resolution.protocol, name, resolution.participant)
     range_layers = [(layer, b) for layer in LAYERS if (b := joint.range.layer(layer)) is not None]
     if not range_layers:
-        add(Severity.WARNING, f"joint '{name}': no range limit, so the room to stop is not assessed (stopping "
-            "time is)", quantity="range")
+        add(
+            Severity.WARNING,
+            f"joint '{name}': no range limit, so the room to stop is not assessed (stopping time is)",
+            quantity="range",
+        )
 
     rows = []
     for direction in DIRECTIONS:
         v: Quantity = speed_limits.get(direction)
-        unit = range_layers[0][1].get(direction).unit if range_layers else ("deg" if "deg" in v.unit else "rad")
+        unit = (
+            range_layers[0][1].get(direction).unit if range_layers else ("deg" if "deg" in v.unit else "rad")
+        )
         d_si = physics.stopping_distance(v.si, t.si, a.si)
         sign = -1.0 if direction == "negative" else 1.0
-
-        def room(outer: Quantity, inner: Quantity) -> tuple[float, bool, float | None]:
-            """Room in ``unit`` (from the declared magnitudes where possible), whether d fits, largest speed."""
-            r_si = sign * (outer.si - inner.si)
-            largest = physics.largest_speed_within_distance(r_si, t.si, a.si) if r_si >= 0 else None
-            return sign * difference(outer, inner, unit), d_si <= r_si, largest
 
         range_layer = outer_layer = None
         room_outer = largest_outer = None
@@ -166,44 +187,80 @@ def _joint(findings: list[Finding], resolution: Resolution, name: str, joint: Jo
             inner = inner_bounds.get(direction)
             if len(range_layers) > 1:
                 outer_layer, outer_bounds = range_layers[1]
-                room_outer, fits_outer, largest_outer = room(outer_bounds.get(direction), inner)
+                room_outer, fits_outer, largest_outer = _room(
+                    outer_bounds.get(direction), inner, sign, unit, d_si, t, a
+                )
         rom_q, rom_source = rom.get(direction)
         room_p = largest_p = None
         fits_p: bool | None = None
         if range_layers and rom_q is not None:
-            room_p, fits_p, largest_p = room(rom_q, inner)
+            room_p, fits_p, largest_p = _room(rom_q, inner, sign, unit, d_si, t, a)
 
         stop_time = physics.stopping_time(v.si, t.si, a.si)
         row = StopRoom(
-            joint=name, direction=direction, speed_layer=speed_layer, speed=v.magnitude, speed_unit=v.unit,
-            reaction_time=value_in(t, budget.unit), deceleration=a.magnitude, deceleration_unit=a.unit,
-            distance=in_unit(d_si, unit), distance_unit=unit, range_layer=range_layer, outer_layer=outer_layer,
-            room_outer=room_outer, fits_outer=fits_outer,
-            largest_speed_outer=_maybe(largest_outer, v.unit), participant_source=rom_source if room_p is not None
-            else None, room_participant=room_p, fits_participant=fits_p,
-            largest_speed_participant=_maybe(largest_p, v.unit), stop_time=in_unit(stop_time, budget.unit),
-            budget=budget.magnitude, time_unit=budget.unit, within_budget=stop_time <= budget.si,
+            joint=name,
+            direction=direction,
+            speed_layer=speed_layer,
+            speed=v.magnitude,
+            speed_unit=v.unit,
+            reaction_time=value_in(t, budget.unit),
+            deceleration=a.magnitude,
+            deceleration_unit=a.unit,
+            distance=in_unit(d_si, unit),
+            distance_unit=unit,
+            range_layer=range_layer,
+            outer_layer=outer_layer,
+            room_outer=room_outer,
+            fits_outer=fits_outer,
+            largest_speed_outer=_maybe(largest_outer, v.unit),
+            participant_source=rom_source if room_p is not None else None,
+            room_participant=room_p,
+            fits_participant=fits_p,
+            largest_speed_participant=_maybe(largest_p, v.unit),
+            stop_time=in_unit(stop_time, budget.unit),
+            budget=budget.magnitude,
+            time_unit=budget.unit,
+            within_budget=stop_time <= budget.si,
             largest_speed_budget=in_unit(physics.largest_speed_within_time(budget.si, t.si, a.si), v.unit),
         )
         rows.append(row)
         where = f"joint '{name}' {end_label(joint, direction)}"
-        stopping = (f"stopping from the {speed_layer} speed {fmt(row.speed, v.unit)} takes {fmt(row.distance, unit)} "
-                    f"({fmt(row.reaction_time, budget.unit)} reaction, {fmt(row.deceleration, a.unit)})")
+        stopping = (
+            f"stopping from the {speed_layer} speed {fmt(row.speed, v.unit)} takes {fmt(row.distance, unit)} "
+            f"({fmt(row.reaction_time, budget.unit)} reaction, {fmt(row.deceleration, a.unit)})"
+        )
         if fits_outer is False:
-            add(Severity.WARNING,
-                f"{where}: {stopping}, but the room from the {range_layer} limit to the {outer_layer} limit is "
+            add(
+                Severity.WARNING,
+                f"{where}: {stopping}, but the room from the {range_layer} limit to the {outer_layer} limit "
+                "is "
                 f"{fmt(row.room_outer, unit)}: the {outer_layer} limit would be passed during the stop"
                 + _largest(row.largest_speed_outer, v.unit),
-                quantity="stopping_distance", direction=direction, layer=outer_layer, value=row.distance,
-                limit=row.room_outer, margin=_diff(row.room_outer, row.distance), unit=unit)
+                quantity="stopping_distance",
+                direction=direction,
+                layer=outer_layer,
+                value=row.distance,
+                limit=row.room_outer,
+                margin=_diff(row.room_outer, row.distance),
+                unit=unit,
+            )
         if fits_p is False:
-            add(Severity.ERROR if rom_source == "measured" else Severity.WARNING,
-                f"{where}: {stopping}, but the room from the {range_layer} limit to the participant's {rom_source} "
-                f"range of motion is {fmt(row.room_participant, unit)}: the joint could pass the participant's range "
+            add(
+                Severity.ERROR if rom_source == "measured" else Severity.WARNING,
+                f"{where}: {stopping}, but the room from the {range_layer} limit to the participant's "
+                f"{rom_source} "
+                f"range of motion is {fmt(row.room_participant, unit)}: the joint could pass the "
+                "participant's range "
                 "during the stop" + _largest(row.largest_speed_participant, v.unit),
-                quantity="stopping_distance", direction=direction, layer="participant", value=row.distance,
-                limit=row.room_participant, margin=_diff(row.room_participant, row.distance), unit=unit,
-                extra=(("rom_source", rom_source),))
+                quantity="stopping_distance",
+                direction=direction,
+                layer="participant",
+                value=row.distance,
+                limit=row.room_participant,
+                margin=_diff(row.room_participant, row.distance),
+                unit=unit,
+                extra=(("rom_source", rom_source),),
+            )
 
     _time_findings(add, name, joint, rows)
     return rows
@@ -216,12 +273,31 @@ def _time_findings(add: Any, name: str, joint: Joint, rows: list[StopRoom]) -> N
     same = len(late) == 2 and late[0].speed == late[1].speed
     for r in late[:1] if same else late:
         where = f"joint '{name}'" + ("" if same else f" {end_label(joint, r.direction)}")
-        add(Severity.ERROR,
+        add(
+            Severity.ERROR,
             f"{where}: stopping from the {r.speed_layer} speed {fmt(r.speed, r.speed_unit)} takes "
-            f"{fmt(r.stop_time, r.time_unit)}, longer than the stop latency budget of {fmt(r.budget, r.time_unit)}; "
+            f"{fmt(r.stop_time, r.time_unit)}, longer than the stop latency budget of "
+            f"{fmt(r.budget, r.time_unit)}; "
             f"the largest speed that stops within the budget is {fmt(r.largest_speed_budget, r.speed_unit)}",
-            quantity="stop_time", direction=None if same else r.direction, layer=r.speed_layer, value=r.stop_time,
-            limit=r.budget, margin=r.budget - r.stop_time, unit=r.time_unit)
+            quantity="stop_time",
+            direction=None if same else r.direction,
+            layer=r.speed_layer,
+            value=r.stop_time,
+            limit=r.budget,
+            margin=r.budget - r.stop_time,
+            unit=r.time_unit,
+        )
+
+
+def _room(
+    outer: Quantity, inner: Quantity, sign: float, unit: str, distance_si: float, t: Quantity, a: Quantity
+) -> tuple[float, bool, float | None]:
+    """The room from ``inner`` out to ``outer`` in ``unit`` (from the declared magnitudes where possible),
+    whether the stopping distance fits in it, and the largest speed that stops within it (SI; None: no
+    room)."""
+    r_si = sign * (outer.si - inner.si)
+    largest = physics.largest_speed_within_distance(r_si, t.si, a.si) if r_si >= 0 else None
+    return sign * difference(outer, inner, unit), distance_si <= r_si, largest
 
 
 def _maybe(si: float | None, unit: str) -> float | None:

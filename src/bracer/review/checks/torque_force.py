@@ -88,49 +88,118 @@ def _largest(limits: Any) -> tuple[Quantity, str]:
 
 def _contact(findings: list[Finding], p: Protocol, name: str, contact: Contact) -> list[PressingForce]:
     def add(severity: Severity, message: str, **fields: Any) -> None:
-        findings.append(review_finding(CHECK, severity, message, subject=name, subject_kind="contact", **fields))
+        findings.append(
+            review_finding(CHECK, severity, message, subject=name, subject_kind="contact", **fields)
+        )
 
     limit = contact.force.quasi_static
     f_unit = limit.unit
     f_limit = in_unit(limit.si, f_unit)
     if not contact.lever_arms:
-        add(Severity.WARNING, f"contact '{name}': no lever arm is declared, so the force the joints can press into "
-            "it is not assessed", quantity="force")
+        add(
+            Severity.WARNING,
+            f"contact '{name}': no lever arm is declared, so the force the joints can press into "
+            "it is not assessed",
+            quantity="force",
+        )
         return []
     rows = []
-    for jname, arm in contact.lever_arms.items():
+    for jname, declared in contact.lever_arms.items():
+        arm: object = declared  # a length, or the words 'not modelled'
         if not isinstance(arm, Quantity):
-            rows.append(PressingForce(name, jname, None, None, None, None, None, None, None, f_limit, f_unit, None,
-                                      "not modelled"))
-            add(Severity.INFO, f"contact '{name}': the lever arm of joint '{jname}' is not modelled, so the force "
-                "that joint can press into the contact is not assessed", quantity="force",
-                extra=(("joint", jname),))
+            rows.append(
+                PressingForce(
+                    name,
+                    jname,
+                    None,
+                    None,
+                    None,
+                    None,
+                    None,
+                    None,
+                    None,
+                    f_limit,
+                    f_unit,
+                    None,
+                    "not modelled",
+                )
+            )
+            add(
+                Severity.INFO,
+                f"contact '{name}': the lever arm of joint '{jname}' is not modelled, so the force "
+                "that joint can press into the contact is not assessed",
+                quantity="force",
+                extra=(("joint", jname),),
+            )
             continue
         joint = p.joints[jname]
-        layers = [(layer, joint.torque.layer(layer)) for layer in _LAYERS if joint.torque.layer(layer) is not None]
+        layers = [
+            (layer, joint.torque.layer(layer)) for layer in _LAYERS if joint.torque.layer(layer) is not None
+        ]
         if not layers:
-            rows.append(PressingForce(name, jname, None, None, None, None, in_unit(arm.si, arm.unit), arm.unit, None,
-                                      f_limit, f_unit, None, "no torque limit"))
-            add(Severity.WARNING, f"contact '{name}': joint '{jname}' has no planned or device torque limit, so the "
-                "force it can press into the contact is unbounded by the review", quantity="force",
-                extra=(("joint", jname),))
+            rows.append(
+                PressingForce(
+                    name,
+                    jname,
+                    None,
+                    None,
+                    None,
+                    None,
+                    in_unit(arm.si, arm.unit),
+                    arm.unit,
+                    None,
+                    f_limit,
+                    f_unit,
+                    None,
+                    "no torque limit",
+                )
+            )
+            add(
+                Severity.WARNING,
+                f"contact '{name}': joint '{jname}' has no planned or device torque limit, so the "
+                "force it can press into the contact is unbounded by the review",
+                quantity="force",
+                extra=(("joint", jname),),
+            )
             continue
         for layer, limits in layers:
             torque, direction = _largest(limits)
             force_si = torque.si / arm.si
             ratio = force_si / limit.si
             exceeds = force_si > limit.si
-            row = PressingForce(name, jname, layer, direction, in_unit(torque.si, torque.unit), torque.unit,
-                                in_unit(arm.si, arm.unit), arm.unit, in_unit(force_si, f_unit), f_limit, f_unit,
-                                ratio, "can exceed the force limit" if exceeds else "within the force limit")
+            row = PressingForce(
+                name,
+                jname,
+                layer,
+                direction,
+                in_unit(torque.si, torque.unit),
+                torque.unit,
+                in_unit(arm.si, arm.unit),
+                arm.unit,
+                in_unit(force_si, f_unit),
+                f_limit,
+                f_unit,
+                ratio,
+                "can exceed the force limit" if exceeds else "within the force limit",
+            )
             rows.append(row)
             if exceeds:
-                add(Severity.WARNING,
-                    f"contact '{name}': the {layer} torque limit of joint '{jname}' ({fmt(row.torque, torque.unit)}) "
-                    f"over its lever arm ({fmt(row.lever_arm, arm.unit)}) can press {fmt(row.force, f_unit)} into "
-                    f"the contact, {ratio:.2f}× its quasi-static force limit ({fmt(f_limit, f_unit)}): the force "
+                add(
+                    Severity.WARNING,
+                    f"contact '{name}': the {layer} torque limit of joint '{jname}' "
+                    f"({fmt(row.torque, torque.unit)}) "
+                    f"over its lever arm ({fmt(row.lever_arm, arm.unit)}) can press {fmt(row.force, f_unit)} "
+                    "into "
+                    f"the contact, {ratio:.2f}× its quasi-static force limit ({fmt(f_limit, f_unit)}): the "
+                    "force "
                     "limit depends on force sensing alone",
-                    quantity="force", layer=layer, direction=None if direction == "both" else direction,
-                    value=row.force, limit=f_limit, margin=f_limit - (row.force or 0.0), unit=f_unit,
-                    extra=(("joint", jname), ("ratio", ratio)))
+                    quantity="force",
+                    layer=layer,
+                    direction=None if direction == "both" else direction,
+                    value=row.force,
+                    limit=f_limit,
+                    margin=f_limit - (row.force or 0.0),
+                    unit=f_unit,
+                    extra=(("joint", jname), ("ratio", ratio)),
+                )
     return rows
