@@ -157,3 +157,15 @@ def test_checks_import_neither_cli_nor_report_writers() -> None:
         "'typer'))))\n"
     )
     assert _in_subprocess(code).strip() == "[]"
+
+
+def test_protocol_text_is_never_read_as_markup(cli, tmp_path: Path) -> None:  # type: ignore[no-untyped-def]
+    # A caution text with square brackets must print as written (rich would read "[/red]" as a closing tag).
+    text = EXAMPLE.read_text(encoding="utf-8").replace(
+        "Spasticity: resistance", "Spasticity [/red] [bold]MAS[/bold]: resistance", 1
+    )
+    path = tmp_path / "brackets.yaml"
+    path.write_text(text, encoding="utf-8")
+    ran = cli("review", path, "-p", "AV-P01")
+    assert ran.code == 0, ran.stderr
+    assert "Spasticity [/red] [bold]MAS[/bold]: resistance" in ran.stdout

@@ -12,6 +12,7 @@ from collections.abc import Iterable, Sequence
 
 from rich import box
 from rich.console import Console, Group, RenderableType
+from rich.markup import escape
 from rich.padding import Padding
 from rich.table import Table
 from rich.text import Text
@@ -34,28 +35,8 @@ _MARK = {
     Severity.WARNING: ("▲ WARN ", "yellow"),
     Severity.INFO: ("· info ", "dim"),
 }
-_NO_WRAP = frozenset(
-    {
-        "end",
-        "participant",
-        "speed",
-        "planned",
-        "device",
-        "mechanical",
-        "layers",
-        "p→d",
-        "d→m",
-        "p→pt",
-        "time",
-        "budget",
-        "v max",
-        "distance",
-        "ratio",
-        "value",
-        "reference",
-        "layer",
-    }
-)
+# Short figure columns never wrap; the others wrap rather than lose text to an ellipsis on a narrow terminal.
+_NO_WRAP = frozenset({"layers", "p→d", "d→m", "p→pt", "time", "budget", "ratio", "error", "warning", "info"})
 _REGION_WORDS = {
     "skull_forehead": "skull and forehead",
     "back_shoulders": "back and shoulders",
@@ -155,13 +136,11 @@ def _header(result: ReviewResult) -> RenderableType:
 
 
 def _overview(result: ReviewResult) -> RenderableType:
-    table = _table("check", "", "error", "warning", "info", title="Checks")
+    table = _table("check", "worst", "error", "warning", "info", title="Checks")
     for r in result.checks:
         counts = {s: sum(f.severity == s for f in r.findings) for s in Severity}
         worst = max((f.severity for f in r.findings), default=None)
-        mark = (
-            severity_label(worst) if worst is not None and worst > Severity.INFO else _t("  ok   ", "green")
-        )
+        mark = severity_label(worst) if worst is not None else _t("  –", "dim")
         table.add_row(
             _t(f"{r.check.code} {r.check.name}"),
             mark,
@@ -232,8 +211,7 @@ def _joint_limits(result: ReviewResult, name: str, joint: Joint) -> RenderableTy
                 else:
                     margin_cells.append(
                         _t(
-                            f"{'+' if m.margin >= 0 else ''}{fmt(m.margin, m.unit)}"
-                            + ("" if m.inside else " BEYOND"),
+                            f"{'+' if m.margin >= 0 else ''}{fmt(m.margin, m.unit)}",
                             "" if m.inside else "bold red",
                         )
                     )
@@ -304,7 +282,7 @@ def _stops_table(stops: Sequence[StopRoom], joint: Joint) -> RenderableType | No
             _room(s.room_participant, s.fits_participant, s.distance_unit, None),
             _t(fmt(s.largest_speed_participant, s.speed_unit)),
             _t(
-                fmt(s.stop_time, s.time_unit) + ("" if s.within_budget else " OVER"),
+                fmt(s.stop_time, s.time_unit) + ("" if s.within_budget else " over"),
                 None if s.within_budget else "bold red",
             ),
             _t(fmt(s.budget, s.time_unit)),
@@ -317,9 +295,9 @@ def _room(room: float | None, fits: bool | None, unit: str, layer: str | None) -
         return _t("–", "dim")
     text = Text(f"{fmt(room, unit)}" + (f" to {layer}" if layer else "") + " ")
     if fits:
-        text.append("holds", style="green")
+        text.append("holds")
     else:
-        text.append("TOO SHORT", style="bold red")
+        text.append("short", style="bold red")
     return text
 
 
@@ -334,12 +312,12 @@ def _changes_block(result: ReviewResult, kind: str, name: str) -> RenderableType
                 lines.append(
                     Text(
                         f"  {c.quantity} {c.part}: {fmt(c.before, c.unit)} → {fmt(c.after, c.unit)}"
-                        f"  [{row.source_kind} {row.source}]{state}"
+                        f"  [{_source_label(row)}]{state}"
                     )
                 )
     if not lines:
         return None
-    return Group(Text("changed for this participant:", style="bold"), *lines)
+    return Group(Text("cautions and overrides for this participant:", style="bold"), *lines)
 
 
 def _joint_section(result: ReviewResult, name: str, joint: Joint) -> list[RenderableType]:
@@ -391,7 +369,7 @@ def _reference_table(result: ReviewResult, name: str) -> RenderableType | None:
         "value",
         "reference",
         "ratio",
-        title=f"Against ISO/TS 15066 Annex A ({rows[0].specific_area}) — {CAVEAT}",
+        title=escape(f"Against ISO/TS 15066 Annex A: {rows[0].specific_area}"),
     )
     for r in rows:
         ratio = "not permissible" if r.ratio is None else format_number(r.ratio, 3)
@@ -407,7 +385,7 @@ def _reference_table(result: ReviewResult, name: str) -> RenderableType | None:
             _t(fmt(r.reference, r.unit)),
             _t(ratio, style),
         )
-    return table
+    return Group(table, Text(f"Ratios to {CAVEAT}.", style="italic"))
 
 
 def _pressing_table(result: ReviewResult, name: str) -> RenderableType | None:
@@ -521,8 +499,13 @@ def _cautions(result: ReviewResult) -> list[RenderableType]:
     return parts
 
 
+def _source_label(row: CautionRow) -> str:
+    """``caution spasticity`` or ``override 1`` (overrides are already named by kind)."""
+    return row.source if row.source_kind == "override" else f"caution {row.source}"
+
+
 def _caution_block(row: CautionRow) -> RenderableType:
-    head = Text(row.source if row.source_kind == "override" else f"caution {row.source}", style="bold")
+    head = Text(_source_label(row), style="bold")
     if row.population:
         head.append(f" — {row.population}")
     if not row.applied:
@@ -534,10 +517,12 @@ def _caution_block(row: CautionRow) -> RenderableType:
     if row.changes:
         table = _table("target", "limit", "before → after", "")
         for c in row.changes:
-            state = "applied" if c.applied else "not applied"
             if c.loosens:
-                state = "applied, LOOSENS"
-            note = f"{state}" + (f" — {c.note}" if c.note and not c.loosens else "")
+                note = "applied, LOOSENS"
+            elif c.applied:
+                note = "applied"
+            else:
+                note = c.note or "not applied"
             table.add_row(
                 _t(f"{c.target_kind} {c.target}"),
                 _t(f"{c.quantity} {c.part}"),

@@ -192,7 +192,7 @@ def _contact(findings: list[Finding], name: str, contact: Contact) -> list[Conta
                 candidates.append(("pressure", item, "limit", limit.si, limit.unit, factor * ref.pressure_pa))
 
     rows = []
-    area_label = ref.specific_area if ref.matched else f"lowest of region ({ref.specific_area})"
+    area_label = ref.specific_area if ref.matched else f"{ref.specific_area}, the lowest of the region"
     for quantity, item, basis, value_si, unit, ref_si in candidates:
         ratio = value_si / ref_si if ref_si > 0 else None
         row_note = "" if ref_si > 0 else "transient contact not permissible in this region"
@@ -232,7 +232,7 @@ def _contact(findings: list[Finding], name: str, contact: Contact) -> list[Conta
                 Severity.WARNING,
                 f"contact '{name}': the {what} ({fmt(row.value, unit)}) is {ratio:.2f}× the reference value "
                 "of "
-                f"{fmt(row.reference, unit)} for region '{ref.region}', {area_label}; these are {CAVEAT}",
+                f"{fmt(row.reference, unit)} for region '{ref.region}' ({area_label}); these are {CAVEAT}",
                 quantity=quantity,
                 value=row.value,
                 limit=row.reference,
