@@ -3,9 +3,9 @@
 from __future__ import annotations
 
 import pytest
+from review_protocols import keyset, resolved
 
 from bracer.review.checks import cautions
-from conftest import keyset, resolved
 
 SLOW = {
     "cautions": {

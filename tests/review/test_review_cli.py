@@ -9,9 +9,9 @@ import sys
 from pathlib import Path
 
 import pytest
+from review_protocols import EXAMPLE, FLAWED
 
 from bracer.reference import table_paths
-from conftest import EXAMPLE, FLAWED
 
 
 def test_example_exits_0_and_shows_every_section(cli) -> None:  # type: ignore[no-untyped-def]

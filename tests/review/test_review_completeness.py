@@ -2,8 +2,9 @@
 
 from __future__ import annotations
 
+from review_protocols import DELETE, keyset, resolved
+
 from bracer.review.checks import completeness
-from conftest import DELETE, keyset, resolved
 
 
 def run(patch=None, participant="P1"):  # type: ignore[no-untyped-def]

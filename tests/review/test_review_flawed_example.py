@@ -3,11 +3,11 @@
 from __future__ import annotations
 
 import pytest
+from review_protocols import EXAMPLE, FLAWED, keyset
 
 from bracer.findings import CHECKS, Severity
 from bracer.protocol.load import load_protocol
 from bracer.review import review
-from conftest import EXAMPLE, FLAWED, keyset
 
 REVIEW_CODES = [f"R10{i}" for i in range(1, 8)]
 

@@ -5,10 +5,10 @@ from __future__ import annotations
 import math
 
 import pytest
+from review_protocols import DELETE, keyset, resolved
 
 from bracer.findings import Severity
 from bracer.review.checks import layer_order
-from conftest import DELETE, keyset, resolved
 
 
 def run(patch=None, participant="P1"):  # type: ignore[no-untyped-def]

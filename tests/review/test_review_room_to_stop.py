@@ -3,9 +3,9 @@
 from __future__ import annotations
 
 import pytest
+from review_protocols import DELETE, keyset, resolved
 
 from bracer.review.checks import room_to_stop
-from conftest import DELETE, keyset, resolved
 
 # The kinematics example of REFERENCES.md ([V]: d = v·t_r + v²/(2a), t = t_r + v/a), as a joint's angular
 # analogue:

@@ -3,9 +3,9 @@
 from __future__ import annotations
 
 import pytest
+from review_protocols import DELETE, keyset, resolved
 
 from bracer.review.checks import torque_force
-from conftest import DELETE, keyset, resolved
 
 
 def run(patch=None):  # type: ignore[no-untyped-def]
