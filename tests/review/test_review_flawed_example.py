@@ -18,7 +18,11 @@ def flawed():  # type: ignore[no-untyped-def]
 
 
 def test_every_review_check_is_registered() -> None:
-    assert [c for c in REVIEW_CODES if c in CHECKS] == REVIEW_CODES
+    from bracer.review.checks import MODULES
+
+    assert [m.CHECK.code for m in MODULES] == REVIEW_CODES
+    assert all(CHECKS[m.CHECK.code] is m.CHECK for m in MODULES)
+    assert len({m.CHECK.name for m in MODULES}) == len(MODULES)
 
 
 @pytest.mark.parametrize("code", REVIEW_CODES)
