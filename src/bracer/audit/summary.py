@@ -30,7 +30,7 @@ __all__ = ["ContactFigures", "JointFigures", "SessionSummary", "summarise"]
 
 @dataclass(frozen=True, slots=True)
 class ContactFigures:
-    """Force on one contact; ``peak``/``rms`` None when the force channel is unavailable (``note`` says why)."""
+    """Force on one contact; ``peak``/``rms`` None without a usable force channel (``note`` says why)."""
 
     contact: str
     unit: str
@@ -116,8 +116,15 @@ def _contact(ctx: AuditContext, name: str) -> ContactFigures:
     k = int(np.argmax(np.where(cf.valid, cf.f, -np.inf)))
     n_valid = int(np.count_nonzero(cf.valid))
     rms = float(np.sqrt(np.sum(np.square(cf.f), where=cf.valid) / n_valid))
-    return ContactFigures(name, unit, in_unit(float(cf.f[k]), unit), float(cf.t[k]), in_unit(rms, unit),
-                          n_valid / cf.f.shape[0], cf.how)
+    return ContactFigures(
+        name,
+        unit,
+        in_unit(float(cf.f[k]), unit),
+        float(cf.t[k]),
+        in_unit(rms, unit),
+        n_valid / cf.f.shape[0],
+        cf.how,
+    )
 
 
 def _joint(ctx: AuditContext, name: str) -> JointFigures:

@@ -23,6 +23,7 @@ from bracer.units import format_number, parse_unit
 
 __all__ = [
     "LAYER_SEVERITY",
+    "TIME_EPS",
     "Extremes",
     "Unavailable",
     "cached",
@@ -42,6 +43,10 @@ T = TypeVar("T")
 SubjectKind = Literal["joint", "contact", "protection", "session"]
 
 _CACHE: weakref.WeakKeyDictionary[AuditContext, dict[tuple[Any, ...], Any]] = weakref.WeakKeyDictionary()
+
+#: Slack when comparing a duration built from float timestamps with a declared one, s (far below any sample
+#: period: a latency of exactly the budget is within it).
+TIME_EPS = 1e-9
 
 #: Severity of exceeding each limit layer: the planned limit is the therapy plan (a deviation to review);
 #: device and mechanical limits and the participant's measured range are safety limits.

@@ -19,6 +19,7 @@ from typing import Literal
 import numpy as np
 
 from bracer.audit.checks._common import (
+    TIME_EPS,
     Unavailable,
     cached,
     extremes,
@@ -190,7 +191,7 @@ def contact_violations(
     tr = limits.get("transient")
     if qs is not None:
         for ev in limit_events(ctx, qs, cf):
-            if tr is not None and ev.duration <= max_transient.si:
+            if tr is not None and ev.duration <= max_transient.si + TIME_EPS:
                 continue  # a transient contact: judged against the transient limit below
             if tr is not None:
                 why = (

@@ -166,6 +166,18 @@ class Motion:
     joints: tuple[str, ...]
     missing: tuple[tuple[str, Unavailable], ...]
     threshold: float
+    derived: tuple[tuple[str, Derivative], ...] = ()  # joints whose speed is derived from position
+
+    def derived_note(self) -> str:
+        """Empty when every speed was logged; otherwise which were derived and how (for messages)."""
+        if not self.derived:
+            return ""
+        d = self.derived[0][1]
+        names = ", ".join(j for j, _ in self.derived)
+        return (
+            f"speed of {names} derived from position (Savitzky–Golay, centred {d.window_samples}-sample "
+            f"window, no phase delay; corners are smoothed over up to {d.edge_samples} samples)"
+        )
 
     @property
     def still(self) -> np.ndarray:
@@ -197,12 +209,15 @@ def motion(ctx: AuditContext, stream: str, threshold: float) -> Motion | Unavail
         known = np.ones(n, dtype=bool)
         joints: list[str] = []
         missing: list[tuple[str, Unavailable]] = []
+        derived: list[tuple[str, Derivative]] = []
         for name in ctx.resolution.protocol.joints:
             sp = joint_signal(ctx, name, "speed")
             if isinstance(sp, Unavailable):
                 missing.append((name, sp))
                 continue
             joints.append(name)
+            if sp.derivation is not None:
+                derived.append((name, sp.derivation))
             fast = np.abs(sp.x) > threshold
             fast &= sp.valid
             if sp.t is t or (sp.t.shape == t.shape and np.array_equal(sp.t, t)):
@@ -216,7 +231,7 @@ def motion(ctx: AuditContext, stream: str, threshold: float) -> Motion | Unavail
         if not joints:
             reasons = "; ".join(f"{j}: {u.reason}" for j, u in missing)
             return Unavailable(None, f"no joint's speed is available ({reasons})")
-        return Motion(stream, t, moving, known, tuple(joints), tuple(missing), threshold)
+        return Motion(stream, t, moving, known, tuple(joints), tuple(missing), threshold, tuple(derived))
 
     return cached(ctx, ("motion", stream, threshold), build)
 

@@ -118,6 +118,8 @@ class StopAnalysis:
     standstill_missing: tuple[tuple[str, Unavailable], ...]
     #: joints without a usable torque channel
     torque_missing: tuple[tuple[str, Unavailable], ...]
+    #: how speeds derived from position entered the standstill test ("" when all were logged)
+    derived_note: str = ""
 
 
 def trigger_active(states: np.ndarray, rule: TriggerChannel, time_valid: np.ndarray | None) -> np.ndarray:

@@ -127,8 +127,8 @@ def _verdict(ctx: AuditContext, ep: Episode) -> _Verdict:
             )
         return _Verdict(
             True,
-            f"controlled deceleration to standstill at {fmt(t_still - t0, 's')}, then torque off "
-            f"at {fmt(off, 's')} after the trigger",
+            f"controlled deceleration to standstill {fmt(t_still - t0, 's')} after the trigger, then torque "
+            f"off {fmt(off, 's')} after it",
             off,
             earliest,
         )

@@ -17,7 +17,7 @@ at the first sample, which cannot be timed (warning).
 
 from __future__ import annotations
 
-from bracer.audit.checks._common import finding, fmt, fmt_t, in_unit, not_assessable
+from bracer.audit.checks._common import TIME_EPS, finding, fmt, fmt_t, in_unit, not_assessable
 from bracer.audit.checks._stopping import Episode, stop_analysis
 from bracer.audit.context import AuditContext
 from bracer.findings import Check, Finding, Kind, Severity, register
@@ -93,11 +93,12 @@ def run(ctx: AuditContext) -> list[Finding]:
                     what=f"standstill of joint '{joint}' after stop triggers",
                 )
             )
-    out.extend(_episode(ctx, ep, tuple(j for j, _ in sa.standstill_missing)) for ep in sa.episodes)
+    left_out = tuple(j for j, _ in sa.standstill_missing)
+    out.extend(_episode(ctx, ep, left_out, sa.derived_note) for ep in sa.episodes)
     return out
 
 
-def _episode(ctx: AuditContext, ep: Episode, left_out: tuple[str, ...]) -> Finding:
+def _episode(ctx: AuditContext, ep: Episode, left_out: tuple[str, ...], derived_note: str) -> Finding:
     stop = ctx.resolution.protocol.stop
     assert stop is not None
     budget = stop.latency_budget
@@ -117,6 +118,8 @@ def _episode(ctx: AuditContext, ep: Episode, left_out: tuple[str, ...]) -> Findi
         )
     if left_out:
         tail += f"; standstill judged without {', '.join(left_out)} (not assessable)"
+    if derived_note:
+        tail += f"; {derived_note}"
     latency = ep.latency
     t_still = ep.t_standstill
     if latency is None or t_still is None:
@@ -143,7 +146,7 @@ def _episode(ctx: AuditContext, ep: Episode, left_out: tuple[str, ...]) -> Findi
         t_end = t_still
         i_end = ep.i_standstill if ep.motion_stream == trig.stream else None
         extra.append(("latency_s", latency))
-        late = latency > budget.si
+        late = latency > budget.si + TIME_EPS
         kind, severity = (Kind.VIOLATION, Severity.ERROR) if late else (Kind.STOP, Severity.INFO)
         verdict = (
             f"{fmt(-margin, unit)} over the latency budget of {budget}"

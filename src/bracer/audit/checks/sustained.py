@@ -10,6 +10,7 @@ grouped into events (hysteresis from ``protocol.audit``); an event lasting longe
 from __future__ import annotations
 
 from bracer.audit.checks._common import (
+    TIME_EPS,
     Unavailable,
     finding,
     fmt,
@@ -68,7 +69,7 @@ def run(ctx: AuditContext) -> list[Finding]:
         unit = str(sus.max_duration.unit)
         force_unit = str(sus.level.unit)
         for ev in events:
-            if ev.duration <= sus.max_duration.si:
+            if ev.duration <= sus.max_duration.si + TIME_EPS:
                 continue  # exactly the allowed duration is allowed
             held = in_unit(ev.duration, unit)
             limit = float(sus.max_duration.magnitude)

@@ -18,7 +18,7 @@ assessable: a joint without a usable torque channel (error, once per joint), and
 
 from __future__ import annotations
 
-from bracer.audit.checks._common import Unavailable, finding, fmt, fmt_t, in_unit, not_assessable
+from bracer.audit.checks._common import TIME_EPS, Unavailable, finding, fmt, fmt_t, in_unit, not_assessable
 from bracer.audit.checks._stopping import Episode, stop_analysis
 from bracer.audit.context import AuditContext
 from bracer.findings import Check, Finding, Kind, Severity, register
@@ -102,7 +102,7 @@ def _episode(ctx: AuditContext, ep: Episode) -> Finding:
     else:
         value = in_unit(t_off - trig.t, unit)
         margin = None if limit is None else limit - value
-        late = within is not None and t_off - trig.t > within.si
+        late = within is not None and t_off - trig.t > within.si + TIME_EPS
         if within is None:
             verdict = "no torque-off budget declared"
         elif late:
