@@ -1,8 +1,9 @@
 """A regular (non-editable) install carries the reference tables and example protocols, and finds them.
 
-pyproject.toml force-includes limits/ and protocols/ into the wheel as bracer/_data/...; bracer.resources looks
-there first.  The wheel is built with pip (the backend, hatchling, comes from pip's isolated build environment),
-then installed into a scratch folder and used from a fresh interpreter with that folder first on the path.
+pyproject.toml force-includes limits/ and protocols/ into the wheel as bracer/_data/...; bracer.resources
+looks there first.  The wheel is built with pip (the backend, hatchling, comes from pip's isolated build
+environment), then installed into a scratch folder and used from a fresh interpreter with that folder first
+on the path.
 """
 
 from __future__ import annotations
@@ -27,7 +28,9 @@ def wheel(tmp_path_factory: pytest.TempPathFactory) -> Path:
     start = time.perf_counter()
     proc = subprocess.run(
         [sys.executable, "-m", "pip", "wheel", "--no-deps", "--quiet", "-w", str(out), str(ROOT)],
-        capture_output=True, text=True, timeout=120,
+        capture_output=True,
+        text=True,
+        timeout=120,
     )
     assert proc.returncode == 0, proc.stderr
     assert time.perf_counter() - start < 30, "building the wheel should take seconds"
@@ -42,7 +45,9 @@ def _files(folder: str, pattern: str) -> set[str]:
 def test_wheel_contains_the_data_files(wheel: Path) -> None:
     names = set(zipfile.ZipFile(wheel).namelist())
     limits = {n.removeprefix("bracer/_data/limits/") for n in names if n.startswith("bracer/_data/limits/")}
-    protocols = {n.removeprefix("bracer/_data/protocols/") for n in names if n.startswith("bracer/_data/protocols/")}
+    protocols = {
+        n.removeprefix("bracer/_data/protocols/") for n in names if n.startswith("bracer/_data/protocols/")
+    }
     assert {"upper_limb_rom.csv", "iso_ts_15066_force_pressure.csv", "iso_ts_15066_body_model.csv"} <= limits
     assert _files("limits", "*.csv") <= limits
     assert "alder4-upper-limb.yaml" in protocols
@@ -52,7 +57,12 @@ def test_wheel_contains_the_data_files(wheel: Path) -> None:
 def test_wheel_contains_the_package_and_the_console_script(wheel: Path) -> None:
     z = zipfile.ZipFile(wheel)
     names = set(z.namelist())
-    assert {"bracer/__init__.py", "bracer/cli/__init__.py", "bracer/protocol/model.py", "bracer/units.py"} <= names
+    assert {
+        "bracer/__init__.py",
+        "bracer/cli/__init__.py",
+        "bracer/protocol/model.py",
+        "bracer/units.py",
+    } <= names
     (entry_points,) = [n for n in names if n.endswith(".dist-info/entry_points.txt")]
     assert "bracer = bracer.cli:main" in z.read(entry_points).decode()
     assert not any(n.startswith(("tests/", "src/")) for n in names)
@@ -61,9 +71,21 @@ def test_wheel_contains_the_package_and_the_console_script(wheel: Path) -> None:
 def test_installed_wheel_finds_its_data(wheel: Path, tmp_path: Path) -> None:
     target = tmp_path / "site"
     proc = subprocess.run(
-        [sys.executable, "-m", "pip", "install", "--no-deps", "--no-index", "--quiet", "--target", str(target),
-         str(wheel)],
-        capture_output=True, text=True, timeout=120,
+        [
+            sys.executable,
+            "-m",
+            "pip",
+            "install",
+            "--no-deps",
+            "--no-index",
+            "--quiet",
+            "--target",
+            str(target),
+            str(wheel),
+        ],
+        capture_output=True,
+        text=True,
+        timeout=120,
     )
     assert proc.returncode == 0, proc.stderr
     script = (
@@ -76,8 +98,9 @@ def test_installed_wheel_finds_its_data(wheel: Path, tmp_path: Path) -> None:
     )
     env = {**os.environ, "PYTHONPATH": str(target)}
     # Run from the scratch folder, so that the source checkout is not the current directory.
-    run = subprocess.run([sys.executable, "-c", script], capture_output=True, text=True, env=env, cwd=tmp_path,
-                         timeout=60)
+    run = subprocess.run(
+        [sys.executable, "-c", script], capture_output=True, text=True, env=env, cwd=tmp_path, timeout=60
+    )
     assert run.returncode == 0, run.stderr
     package, limits, counts, protocol_id = run.stdout.splitlines()
     assert Path(package).resolve().is_relative_to(target.resolve())

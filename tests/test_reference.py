@@ -32,8 +32,10 @@ CONFIDENCE_MARKS = {"C1", "C2", "M"}
 
 @pytest.mark.parametrize("path", sorted(data_dir("limits").glob("*.csv")), ids=lambda p: p.name)
 def test_every_row_has_a_source_and_a_confidence_mark(path: Path) -> None:
-    # Every table in limits/, including ones added later: a value without a source or a mark is not a reference.
-    lines = [ln for ln in path.read_text(encoding="utf-8").splitlines() if ln.strip() and not ln.startswith("#")]
+    # Every table in limits/, including ones added later: a value without source or mark is no reference.
+    lines = [
+        ln for ln in path.read_text(encoding="utf-8").splitlines() if ln.strip() and not ln.startswith("#")
+    ]
     rows = list(csv.DictReader(lines))
     assert rows, path.name
     marks = [c for c in rows[0] if c == "confidence" or c.endswith("_confidence")]
@@ -41,12 +43,17 @@ def test_every_row_has_a_source_and_a_confidence_mark(path: Path) -> None:
     for row in rows:
         assert all(row[c] in CONFIDENCE_MARKS for c in marks), row
         assert row["source"].strip(), row
-        assert None not in row and all(v is not None and v.strip() for v in row.values()), row  # no ragged row
+        assert None not in row and all(v is not None and v.strip() for v in row.values()), (
+            row
+        )  # no ragged row
 
 
 def test_the_three_review_tables_are_listed() -> None:
-    assert set(table_paths()) == {"upper_limb_rom.csv", "iso_ts_15066_force_pressure.csv",
-                                  "iso_ts_15066_body_model.csv"}
+    assert set(table_paths()) == {
+        "upper_limb_rom.csv",
+        "iso_ts_15066_force_pressure.csv",
+        "iso_ts_15066_body_model.csv",
+    }
 
 
 def test_tables_load_through_the_reference_module() -> None:
@@ -95,7 +102,9 @@ TABLE_A2 = [
 ]
 
 
-@pytest.mark.parametrize(("region", "area", "pressure", "force"), TABLE_A2, ids=[f"{r}/{a}" for r, a, _, _ in TABLE_A2])
+@pytest.mark.parametrize(
+    ("region", "area", "pressure", "force"), TABLE_A2, ids=[f"{r}/{a}" for r, a, _, _ in TABLE_A2]
+)
 def test_table_a2_values(region: str, area: str, pressure: float, force: float) -> None:
     # ISO/TS 15066:2016 Annex A Table A.2 (transcribed, [C2]; palm non-dominant [M])
     rows = {(r.region, r.specific_area): r for r in body_region_limits()}
@@ -108,10 +117,13 @@ def test_table_a2_values(region: str, area: str, pressure: float, force: float) 
 
 
 def test_table_a2_has_exactly_the_transcribed_rows() -> None:
-    assert sorted((r.region, r.specific_area) for r in body_region_limits()) == sorted((r, a) for r, a, _, _ in TABLE_A2)
+    assert sorted((r.region, r.specific_area) for r in body_region_limits()) == sorted(
+        (r, a) for r, a, _, _ in TABLE_A2
+    )
 
 
-# ISO/TS 15066:2016 Annex A Table A.3 (transcribed, [C2]): effective spring constant k (N/mm), body mass m_H (kg).
+# ISO/TS 15066:2016 Annex A Table A.3 (transcribed, [C2]):
+# effective spring constant k (N/mm), effective body mass m_H (kg).
 TABLE_A3 = {
     "skull_forehead": (150, 4.4),
     "face": (75, 4.4),
@@ -173,8 +185,8 @@ def test_worked_transient_example_from_the_tables(m_r: float, v_max: float) -> N
 
 SOURCES = ("AAOS", "AMA", "Boone & Azen 1979", "Walker", "Macedo & Magee")
 
-# Norkin & White, Measurement of Joint Motion, appendix table of normative values (transcribed, [C2]), degrees,
-# in the order of SOURCES: AAOS, AMA Guides, Boone & Azen 1979, Walker, Macedo & Magee.
+# Norkin & White, Measurement of Joint Motion, appendix table of normative values (transcribed, [C2]),
+# degrees, in the order of SOURCES: AAOS, AMA Guides, Boone & Azen 1979, Walker, Macedo & Magee.
 NORKIN_WHITE = {
     "shoulder flexion": (180, 180, 167, 165, 188),
     "shoulder extension": (60, 50, 62, 44, 70),
@@ -221,7 +233,9 @@ def test_rom_values_match_zwerus_2017(motion: str) -> None:
 
 
 def test_rom_table_has_exactly_these_rows() -> None:
-    expected = {(m, s) for m in NORKIN_WHITE for s in SOURCES} | {(m, "Zwerus et al. 2017") for m in ZWERUS_2017}
+    expected = {(m, s) for m in NORKIN_WHITE for s in SOURCES} | {
+        (m, "Zwerus et al. 2017") for m in ZWERUS_2017
+    }
     assert {(r.motion, r.source) for r in rom_rows()} == expected
 
 
@@ -238,16 +252,16 @@ def test_rom_reference_defaults_to_aaos_and_returns_none_when_absent() -> None:
 # motions near zero by a few degrees (elbow extension 0 vs 1 vs 2 deg): goniometric readings differ by a few
 # degrees between raters and sessions (common practice, [M]).  So two sources agree when
 #     |a - b| <= max(3 deg, 0.2 x max(|a|, |b|)).
-# This must still catch a transcription error of 10x (a dropped or doubled digit) on every non-zero row; the test
-# after the cross-checks proves that it does.
+# This must still catch a transcription error of 10x (a dropped or doubled digit) on every non-zero row;
+# the test after the cross-checks proves that it does.
 def _agree(a: float, b: float) -> bool:
     return abs(a - b) <= max(3.0, 0.2 * max(abs(a), abs(b)))
 
 
 @pytest.mark.parametrize("motion", list(NORKIN_WHITE))
 def test_rom_aaos_agrees_with_boone_and_azen(motion: str) -> None:
-    # AAOS vs Boone & Azen 1979 (both via Norkin & White appendix, [C2]), values read from limits/ (not from the
-    # transcription above), so a wrong row in the CSV shows up here even if the transcription test were edited.
+    # AAOS vs Boone & Azen 1979 (both via Norkin & White appendix, [C2]), values read from limits/ (not from
+    # the transcription above), so a wrong CSV row shows up here even if the transcription test were edited.
     aaos = rom_reference(motion, "AAOS")
     boone = rom_reference(motion, "Boone & Azen 1979")
     assert aaos is not None and boone is not None
@@ -265,16 +279,22 @@ def test_rom_aaos_agrees_with_zwerus_for_elbow_and_forearm(motion: str) -> None:
 
 
 def test_the_tolerance_catches_a_tenfold_transcription_error() -> None:
-    # Every row mis-scaled by 10 (either way, either source) must fail the cross-check, unless the error itself is
-    # within the 3-degree floor (1 deg read as 0.1 deg; 0 stays 0) -- those only the exact-value tests above catch.
-    pairs = [(m, "Boone & Azen 1979") for m in NORKIN_WHITE] + [(m, "Zwerus et al. 2017") for m in ZWERUS_2017]
+    # Every row mis-scaled by 10 (either way, either source) must fail the cross-check, unless the error itself
+    # is within the 3-degree floor (1 deg read as 0.1 deg; 0 stays 0): the exact-value tests catch it.
+    pairs = [(m, "Boone & Azen 1979") for m in NORKIN_WHITE] + [
+        (m, "Zwerus et al. 2017") for m in ZWERUS_2017
+    ]
     checked = 0
     for motion, other in pairs:
         aaos = rom_reference(motion, "AAOS")
         row = rom_reference(motion, other)
         assert aaos is not None and row is not None
-        for wrong_aaos, wrong_other in [(aaos.degrees * 10, row.degrees), (aaos.degrees / 10, row.degrees),
-                                        (aaos.degrees, row.degrees * 10), (aaos.degrees, row.degrees / 10)]:
+        for wrong_aaos, wrong_other in [
+            (aaos.degrees * 10, row.degrees),
+            (aaos.degrees / 10, row.degrees),
+            (aaos.degrees, row.degrees * 10),
+            (aaos.degrees, row.degrees / 10),
+        ]:
             error = abs(wrong_aaos - aaos.degrees) + abs(wrong_other - row.degrees)
             if error <= 3.0:
                 continue

@@ -1,4 +1,5 @@
-"""bracer's unit table (src/bracer/units.py) checked against pint, an independent general-purpose unit library.
+"""bracer's unit table (src/bracer/units.py) checked against pint, an independent general-purpose unit
+library.
 
 pint is the oracle for every conversion factor and dimension here.  One deliberate difference: pint treats the
 radian as dimensionless (so it would convert ``deg`` into a plain number, or ``N*m/rad`` into ``N*m``), while
@@ -51,21 +52,55 @@ def _pint_factor_and_dimension(ureg, expr: str) -> tuple[float, Dimension]:  # t
 # Unit expressions a protocol or a log uses, grouped as in the brief; each is checked against pint.
 PINT_CASES = [
     # angle, angular speed, angular acceleration
-    "deg", "rad", "°", "deg/s", "rad/s", "°/s", "deg/s^2", "rad/s^2", "deg/s**2",
+    "deg",
+    "rad",
+    "°",
+    "deg/s",
+    "rad/s",
+    "°/s",
+    "deg/s^2",
+    "rad/s^2",
+    "deg/s**2",
     # torque and energy
-    "N*m", "N m", "kN*m", "J",
+    "N*m",
+    "N m",
+    "kN*m",
+    "J",
     # force
-    "N", "kN", "mN",
+    "N",
+    "kN",
+    "mN",
     # pressure: N/cm^2 vs kPa vs Pa
-    "N/cm^2", "N/mm^2", "kPa", "Pa", "MPa",
+    "N/cm^2",
+    "N/mm^2",
+    "kPa",
+    "Pa",
+    "MPa",
     # area
-    "cm^2", "mm^2", "m^2",
+    "cm^2",
+    "mm^2",
+    "m^2",
     # time
-    "ms", "s", "min", "h", "us",
+    "ms",
+    "s",
+    "min",
+    "h",
+    "us",
     # frequency
-    "Hz", "kHz", "1/s",
+    "Hz",
+    "kHz",
+    "1/s",
     # stiffness, speed, acceleration, mass, length
-    "N/mm", "N/m", "mm/s", "m/s", "m/s^2", "kg", "g", "m", "cm", "mm",
+    "N/mm",
+    "N/m",
+    "mm/s",
+    "m/s",
+    "m/s^2",
+    "kg",
+    "g",
+    "m",
+    "cm",
+    "mm",
 ]
 
 
@@ -286,8 +321,25 @@ def test_non_text_values_are_refused(value: object) -> None:
 
 @pytest.mark.parametrize(
     "unit",
-    ["N**", "/s", "deg//s", "N*", "*N", "N/", "N^", "N^^2", "N^2^3", "**2", "deg**/s", "deg^1.5", "N.m", "N-m",
-     "N/(cm^2)", "m^5", "s^-9"],
+    [
+        "N**",
+        "/s",
+        "deg//s",
+        "N*",
+        "*N",
+        "N/",
+        "N^",
+        "N^^2",
+        "N^2^3",
+        "**2",
+        "deg**/s",
+        "deg^1.5",
+        "N.m",
+        "N-m",
+        "N/(cm^2)",
+        "m^5",
+        "s^-9",
+    ],
 )
 def test_malformed_expressions_are_refused(unit: str) -> None:
     with pytest.raises(UnitError, match="malformed unit"):
@@ -304,7 +356,7 @@ def test_empty_unit_is_refused(unit: str) -> None:
 
 @pytest.mark.parametrize("text", ["nan deg", "inf deg", "deg", "1e400 deg", "1e308 kN"])
 def test_not_a_finite_number_is_refused(text: str) -> None:
-    with pytest.raises(UnitError, match="not a finite number|expected a number followed by a unit"):
+    with pytest.raises(UnitError, match=r"not a finite number|expected a number followed by a unit"):
         parse_quantity(text)
 
 
@@ -343,7 +395,14 @@ def test_quantity_is_frozen() -> None:
 
 @pytest.mark.parametrize(
     ("value", "text"),
-    [(0.0, "0"), (120.0, "120"), (0.785398163, "0.7854"), (1e-5, "1e-5"), (123456.0, "1.235e5"), (-2.5, "-2.5")],
+    [
+        (0.0, "0"),
+        (120.0, "120"),
+        (0.785398163, "0.7854"),
+        (1e-5, "1e-5"),
+        (123456.0, "1.235e5"),
+        (-2.5, "-2.5"),
+    ],
 )
 def test_format_number(value: float, text: str) -> None:
     assert format_number(value) == text

@@ -166,7 +166,7 @@ def dimension_name(dim: Dimension) -> str:
 
 
 def known_units() -> tuple[str, ...]:
-    """Every unit symbol the table knows, sorted (compound units are built from these with ``*``, ``/``, ``^``)."""
+    """Every unit symbol the table knows, sorted (compound units combine them with ``*``, ``/``, ``^``)."""
     return tuple(sorted(_SYMBOLS))
 
 
@@ -241,8 +241,10 @@ def parse_unit(text: str) -> tuple[float, Dimension]:
             raise UnitError(f"unknown unit '{symbol}'{where}{suffix}")
         exponent = int(exp_text) if exp_text else 1
         if abs(exponent) > _MAX_EXPONENT:
-            raise UnitError(f"malformed unit '{raw}': exponent {exponent} of '{symbol}' is out of range "
-                            f"(at most {_MAX_EXPONENT} either way)")
+            raise UnitError(
+                f"malformed unit '{raw}': exponent {exponent} of '{symbol}' is out of range "
+                f"(at most {_MAX_EXPONENT} either way)"
+            )
         if op == "/":
             exponent = -exponent
         factor *= f**exponent
@@ -286,7 +288,8 @@ class Quantity:
         factor, dim = parse_unit(unit)
         if dim != self.dimension:
             raise UnitError(
-                f"cannot express {self} ({dimension_name(self.dimension)}) in '{unit}' ({dimension_name(dim)})"
+                f"cannot express {self} ({dimension_name(self.dimension)}) in '{unit}' "
+                f"({dimension_name(dim)})"
             )
         return self.si / factor
 

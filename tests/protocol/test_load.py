@@ -28,7 +28,11 @@ def test_example_loads(loaded: LoadedProtocol) -> None:
     assert p.bracer_protocol == 1
     assert p.protocol.id == "AVRU-EXO-01"
     assert list(p.joints) == [
-        "shoulder_flexion", "shoulder_abduction", "shoulder_rotation", "elbow_flexion", "forearm_rotation",
+        "shoulder_flexion",
+        "shoulder_abduction",
+        "shoulder_rotation",
+        "elbow_flexion",
+        "forearm_rotation",
     ]
     assert list(p.contacts) == ["upper_arm_cuff", "forearm_cuff"]
     assert list(p.participants) == ["AV-P01", "AV-P02"]
@@ -40,7 +44,7 @@ def test_example_values_are_in_internal_units(loaded: LoadedProtocol) -> None:
     elbow = p.joints["elbow_flexion"]
     planned = elbow.range.planned
     assert planned is not None
-    assert planned.min.si == pytest.approx(10 * DEG)
+    assert planned.min.si == pytest.approx(15 * DEG)
     assert planned.max.si == pytest.approx(120 * DEG)
     speed = elbow.speed.planned
     assert isinstance(speed, Directional) and speed.symmetric
@@ -101,9 +105,27 @@ def test_public_names_stay() -> None:
     import bracer.protocol.resolve as resolve
 
     for mod, names in [
-        (model, ["BODY_REGIONS", "LAYERS", "Bounds", "Caution", "Contact", "Effect", "Joint", "Participant",
-                 "Protocol", "ChannelRef", "ForceChannel", "Override"]),
-        (resolve, ["Change", "ParticipantRange", "Resolution", "ResolveProblem", "participant_range", "resolve"]),
+        (
+            model,
+            [
+                "BODY_REGIONS",
+                "LAYERS",
+                "Bounds",
+                "Caution",
+                "Contact",
+                "Effect",
+                "Joint",
+                "Participant",
+                "Protocol",
+                "ChannelRef",
+                "ForceChannel",
+                "Override",
+            ],
+        ),
+        (
+            resolve,
+            ["Change", "ParticipantRange", "Resolution", "ResolveProblem", "participant_range", "resolve"],
+        ),
         (load, ["LoadedProtocol", "load_protocol"]),
     ]:
         for name in names:

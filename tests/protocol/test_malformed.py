@@ -1,5 +1,5 @@
-"""Malformed protocols: every one is refused by ``bracer review`` with exit code 2 and a message that names the
-file, the line and column, the field, what was expected and what was found -- never a traceback.
+"""Malformed protocols: every one is refused by ``bracer review`` with exit code 2 and a message that names
+the file, the line and column, the field, what was expected and what was found -- never a traceback.
 
 Three sources of cases:
 
@@ -46,8 +46,12 @@ def _assert_refused(result, path: Path, line: int | None, col: int | None, *frag
 
 FILE_CASES = [
     # (file, line, column, fragments)
-    ("yaml_syntax_error.yaml", 6, 10,
-     ["YAML syntax error", "expected ',' or ']'", "flow sequence started on line 5, column 10"]),
+    (
+        "yaml_syntax_error.yaml",
+        6,
+        10,
+        ["YAML syntax error", "expected ',' or ']'", "flow sequence started on line 5, column 10"],
+    ),
     ("tab_indented.yaml", 3, 1, ["YAML syntax error", "indentation must use spaces", "tab character"]),
     ("merge_key.yaml", 7, 5, ["[contacts.upper_arm_cuff]", "merge keys ('<<') are not supported"]),
     ("several_documents.yaml", 5, 1, ["second YAML document", "holds exactly one"]),
@@ -62,7 +66,9 @@ FILE_CASES = [
 
 
 @pytest.mark.parametrize(("name", "line", "col", "fragments"), FILE_CASES, ids=[c[0] for c in FILE_CASES])
-def test_malformed_file_is_refused(run_bracer, name: str, line: int, col: int | None, fragments: list[str]) -> None:  # type: ignore[no-untyped-def]
+def test_malformed_file_is_refused(
+    run_bracer, name: str, line: int, col: int | None, fragments: list[str]
+) -> None:  # type: ignore[no-untyped-def]
     path = MALFORMED / name
     _assert_refused(run_bracer("review", path), path, line, col, *fragments)
 
@@ -88,8 +94,15 @@ def test_not_utf8(run_bracer, tmp_path: Path) -> None:  # type: ignore[no-untype
     path = tmp_path / "latin1.yaml"
     path.write_bytes("bracer_protocol: 1\nprotocol:\n  title: Café\n".encode("latin-1"))
     # 'é' is byte 0xe9 on line 3, at offset 18 + 10 + 13 = 41.
-    _assert_refused(run_bracer("review", path), path, 3, None, "not UTF-8 text", "byte 0xe9 at offset 41",
-                    "save the file as UTF-8")
+    _assert_refused(
+        run_bracer("review", path),
+        path,
+        3,
+        None,
+        "not UTF-8 text",
+        "byte 0xe9 at offset 41",
+        "save the file as UTF-8",
+    )
 
 
 def test_utf8_with_bom_is_read(tmp_path: Path, example_text: str) -> None:
@@ -156,97 +169,262 @@ class Edit:
 
 
 EDITS = [
-    Edit("missing_unit", "planned: {min: -10 deg, max: 120 deg}", "planned: {min: -10, max: 120 deg}",
-         "planned: {min: |-10, max", "joints.shoulder_flexion.range.planned.min",
-         ("number without a unit: found -10", "such as '120 deg'")),
-    Edit("wrong_dimension", "planned: {min: -10 deg, max: 120 deg}", "planned: {min: -10 N*m, max: 120 deg}",
-         "{min: |-10 N*m", "joints.shoulder_flexion.range.planned.min",
-         ("wrong dimension: expected angle (deg, rad), found '-10 N*m' (torque)",)),
-    Edit("min_above_max", "planned: {min: -10 deg, max: 120 deg}", "planned: {min: 130 deg, max: 120 deg}",
-         "planned: |{min: 130 deg", "joints.shoulder_flexion.range.planned",
-         ("min (130 deg) must be below max (120 deg)",)),
-    Edit("negative_area", "area: 40 cm^2", "area: -40 cm^2", "area: |-40 cm^2", "contacts.upper_arm_cuff.area",
-         ("contact area must be above zero, found '-40 cm^2'",)),
-    Edit("duplicate_joint", "  shoulder_abduction:\n    motion:", "  shoulder_flexion:\n    motion:",
-         "|shoulder_flexion:\n    motion: shoulder abduction", "joints",
-         ("duplicate key 'shoulder_flexion' (first defined on line {first_shoulder_flexion})",)),
-    Edit("caution_unknown_joint", "{joint: elbow_flexion, quantity: speed, scale: 0.5}",
-         "{joint: elbow_flex, quantity: speed, scale: 0.5}", "{joint: |elbow_flex,",
-         "cautions.spasticity.effects[0].joint", ("unknown joint 'elbow_flex'; did you mean 'elbow_flexion'?",)),
-    Edit("unknown_field", "    stop_deceleration: 600 deg/s^2\n    channels:\n      position: {column: sh_flex_pos",
-         "    stop_decelration: 600 deg/s^2\n    channels:\n      position: {column: sh_flex_pos",
-         "|stop_decelration", "joints.shoulder_flexion.stop_decelration",
-         ("unknown field 'stop_decelration'; did you mean 'stop_deceleration'?",)),
-    Edit("unknown_body_region", "body_region: upper_arm_elbow", "body_region: upper_arm",
-         "body_region: |upper_arm\n", "contacts.upper_arm_cuff.body_region",
-         ("found 'upper_arm'; did you mean 'upper_arm_elbow'?", "'lower_arm_wrist'")),
-    Edit("bad_stop_category", "  category: 1", "  category: 3", "category: |3", "stop.category",
-         ("expected one of 0, 1 or 2, found 3",)),
-    Edit("unknown_stream", "unit: N, stream: cuffs}\n\n  forearm_cuff", "unit: N, stream: cufs}\n\n  forearm_cuff",
-         "stream: |cufs}", "contacts.upper_arm_cuff.channels.force.stream",
-         ("unknown stream 'cufs'; did you mean 'cuffs'?",)),
-    Edit("unknown_participant_caution", "cautions: [low_bone_density]", "cautions: [low_bone_densty]",
-         "cautions: [|low_bone_densty]", "participants.AV-P02.cautions[0]",
-         ("unknown caution 'low_bone_densty'; did you mean 'low_bone_density'?",)),
-    Edit("override_set_and_scale", "      - joint: elbow_flexion\n        quantity: torque\n        set: 6 N*m",
-         "      - joint: elbow_flexion\n        quantity: torque\n        set: 6 N*m\n        scale: 0.5",
-         "      - |joint: elbow_flexion\n        quantity: torque", "participants.AV-P01.overrides[0]",
-         ("give exactly one of 'set', 'scale' or 'measured_minus'",)),
-    Edit("channel_unit", "position: {column: sh_flex_pos, unit: deg}", "position: {column: sh_flex_pos, unit: N*m}",
-         "sh_flex_pos, unit: |N*m}", "joints.shoulder_flexion.channels.position.unit",
-         ("wrong dimension: expected a unit of angle (deg, rad), found 'N*m' (torque)",)),
-    Edit("channel_unknown_unit", "velocity: {column: elb_vel, unit: deg/s}", "velocity: {column: elb_vel, unit: degs/s}",
-         "elb_vel, unit: |degs/s}", "joints.elbow_flexion.channels.velocity.unit",
-         ("unknown unit 'degs' in 'degs/s'; did you mean 'deg'?",)),
-    Edit("force_channel_unit", "force: {columns: [ua_fx, ua_fy, ua_fz], unit: N,",
-         "force: {columns: [ua_fx, ua_fy, ua_fz], unit: kg,", "ua_fz], unit: |kg,",
-         "contacts.upper_arm_cuff.channels.force.unit",
-         ("wrong dimension: expected a unit of force (N, kN), found 'kg' (mass)",)),
-    Edit("time_unit", "main: {time: {column: t, unit: s}", "main: {time: {column: t, unit: Hz}",
-         "column: t, unit: |Hz}", "logging.streams.main.time.unit",
-         ("expected a unit of time (s, ms), found 'Hz' (frequency)",)),
-    Edit("lever_arm_dimension", "      shoulder_flexion: 0.16 m", "      shoulder_flexion: 0.16 deg",
-         "shoulder_flexion: |0.16 deg", "contacts.upper_arm_cuff.lever_arms.shoulder_flexion",
-         ("expected length (m, cm, mm), found '0.16 deg' (angle); or write 'not modelled'",)),
-    Edit("lever_arm_unknown_joint", "      shoulder_abduction: 0.16 m", "      shoulder_abducton: 0.16 m",
-         "      |shoulder_abducton: 0.16 m", "contacts.upper_arm_cuff.lever_arms.shoulder_abducton",
-         ("unknown joint 'shoulder_abducton'; did you mean 'shoulder_abduction'?",)),
-    Edit("format_version", "bracer_protocol: 1", "bracer_protocol: 2", "bracer_protocol: |2", "bracer_protocol",
-         ("reads protocol format version 1, the file says 2",)),
-    Edit("quoted_format_version", "bracer_protocol: 1", 'bracer_protocol: "1"', 'bracer_protocol: |"1"',
-         "bracer_protocol", ("the file says '1'", "no quotes")),
-    Edit("version_as_number", 'version: "1.2"', "version: 1.2", "version: |1.2", "protocol.version",
-         ("expected text, found the number 1.2; put it in quotes",)),
-    Edit("bad_date", "date: 2027-01-15", "date: 2027-13-15", "  date: |2027-13-15", "protocol.date",
-         ("expected a date as YYYY-MM-DD, found '2027-13-15'", "month")),
-    Edit("negative_speed", "speed: {planned: 60 deg/s, device: 90 deg/s}",
-         "speed: {planned: -60 deg/s, device: 90 deg/s}", "planned: |-60 deg/s", "joints.shoulder_flexion.speed.planned",
-         ("an angular speed limit is a magnitude and must be above zero, found '-60 deg/s'",)),
-    Edit("per_direction_typo", "speed: {planned: 60 deg/s, device: 90 deg/s}",
-         "speed: {planned: {positive: 60 deg/s, negatve: 40 deg/s}, device: 90 deg/s}",
-         "speed: {planned: |{positive: 60 deg/s", "joints.shoulder_flexion.speed.planned",
-         ("unknown key(s) 'negatve'", "did you mean 'negative'?")),
-    Edit("set_wrong_dimension", "{joint: shoulder_abduction, quantity: range, direction: positive, set: 80 deg}",
-         "{joint: shoulder_abduction, quantity: range, direction: positive, set: 80 N}",
-         "direction: positive, set: |80 N}", "cautions.shoulder_subluxation.effects[0].set",
-         ("wrong dimension: the range limit needs an angle (deg, rad), found '80 N' (force)",)),
-    Edit("unknown_trigger", "    emergency_stop: {column: estop", "    emergncy_stop: {column: estop",
-         "    |emergncy_stop:", "logging.triggers.emergncy_stop",
-         ("found 'emergncy_stop'; did you mean 'emergency_stop'?",)),
-    Edit("margin_fraction", "  speed: {fraction: 0.1}", "  speed: {fraction: 1.5}", "speed: {fraction: |1.5}",
-         "near_miss.speed.fraction", ("expected a value below 1, found 1.5",)),
-    Edit("unknown_layer", "stop_on_exceedance: [device]", "stop_on_exceedance: [devise]",
-         "stop_on_exceedance: [|devise]", "stop.stop_on_exceedance[0]",
-         ("expected one of 'planned', 'device' or 'mechanical', found 'devise'; did you mean 'device'?",)),
-    Edit("missing_required_field", "  latency_budget: 300 ms\n", "", "\n|stop:\n", "stop.latency_budget",
-         ("missing required field 'latency_budget' (Longest allowed time from trigger to standstill)",)),
-    Edit("bad_participant_code", "  AV-P02:", "  2AV-P02:", "  |2AV-P02:", "participants.2AV-P02",
-         ("'2AV-P02' is not a valid name",)),
-    Edit("empty_roles", "roles: [responsible clinician, responsible engineer, trial coordinator]", "roles: []",
-         "roles: |[]", "protocol.roles", ("expected at least 1 item, found 0",)),
-    Edit("trigger_value_not_scalar", "emergency_stop: {column: estop, active: [1]}",
-         "emergency_stop: {column: estop, active: [[1]]}", "active: [|[1]]}", "logging.triggers.emergency_stop.active[0]",
-         ("expected a whole number, a number or text, found a list",)),
+    Edit(
+        "missing_unit",
+        "planned: {min: -10 deg, max: 120 deg}",
+        "planned: {min: -10, max: 120 deg}",
+        "planned: {min: |-10, max",
+        "joints.shoulder_flexion.range.planned.min",
+        ("number without a unit: found -10", "such as '120 deg'"),
+    ),
+    Edit(
+        "wrong_dimension",
+        "planned: {min: -10 deg, max: 120 deg}",
+        "planned: {min: -10 N*m, max: 120 deg}",
+        "{min: |-10 N*m",
+        "joints.shoulder_flexion.range.planned.min",
+        ("wrong dimension: expected angle (deg, rad), found '-10 N*m' (torque)",),
+    ),
+    Edit(
+        "min_above_max",
+        "planned: {min: -10 deg, max: 120 deg}",
+        "planned: {min: 130 deg, max: 120 deg}",
+        "planned: |{min: 130 deg",
+        "joints.shoulder_flexion.range.planned",
+        ("min (130 deg) must be below max (120 deg)",),
+    ),
+    Edit(
+        "negative_area",
+        "area: 40 cm^2",
+        "area: -40 cm^2",
+        "area: |-40 cm^2",
+        "contacts.upper_arm_cuff.area",
+        ("contact area must be above zero, found '-40 cm^2'",),
+    ),
+    Edit(
+        "duplicate_joint",
+        "  shoulder_abduction:\n    motion:",
+        "  shoulder_flexion:\n    motion:",
+        "|shoulder_flexion:\n    motion: shoulder abduction",
+        "joints",
+        ("duplicate key 'shoulder_flexion' (first defined on line {first_shoulder_flexion})",),
+    ),
+    Edit(
+        "caution_unknown_joint",
+        "{joint: elbow_flexion, quantity: speed, scale: 0.5}",
+        "{joint: elbow_flex, quantity: speed, scale: 0.5}",
+        "{joint: |elbow_flex,",
+        "cautions.spasticity.effects[0].joint",
+        ("unknown joint 'elbow_flex'; did you mean 'elbow_flexion'?",),
+    ),
+    Edit(
+        "unknown_field",
+        "    stop_deceleration: 600 deg/s^2\n    channels:\n      position: {column: sh_flex_pos",
+        "    stop_decelration: 600 deg/s^2\n    channels:\n      position: {column: sh_flex_pos",
+        "|stop_decelration",
+        "joints.shoulder_flexion.stop_decelration",
+        ("unknown field 'stop_decelration'; did you mean 'stop_deceleration'?",),
+    ),
+    Edit(
+        "unknown_body_region",
+        "body_region: upper_arm_elbow",
+        "body_region: upper_arm",
+        "body_region: |upper_arm\n",
+        "contacts.upper_arm_cuff.body_region",
+        ("found 'upper_arm'; did you mean 'upper_arm_elbow'?", "'lower_arm_wrist'"),
+    ),
+    Edit(
+        "bad_stop_category",
+        "  category: 1",
+        "  category: 3",
+        "category: |3",
+        "stop.category",
+        ("expected one of 0, 1 or 2, found 3",),
+    ),
+    Edit(
+        "unknown_stream",
+        "unit: N, stream: cuffs}\n\n  forearm_cuff",
+        "unit: N, stream: cufs}\n\n  forearm_cuff",
+        "stream: |cufs}",
+        "contacts.upper_arm_cuff.channels.force.stream",
+        ("unknown stream 'cufs'; did you mean 'cuffs'?",),
+    ),
+    Edit(
+        "unknown_participant_caution",
+        "cautions: [low_bone_density]",
+        "cautions: [low_bone_densty]",
+        "cautions: [|low_bone_densty]",
+        "participants.AV-P02.cautions[0]",
+        ("unknown caution 'low_bone_densty'; did you mean 'low_bone_density'?",),
+    ),
+    Edit(
+        "override_set_and_scale",
+        "      - joint: elbow_flexion\n        quantity: torque\n        set: 6 N*m",
+        "      - joint: elbow_flexion\n        quantity: torque\n        set: 6 N*m\n        scale: 0.5",
+        "      - |joint: elbow_flexion\n        quantity: torque",
+        "participants.AV-P01.overrides[0]",
+        ("give exactly one of 'set', 'scale' or 'measured_minus'",),
+    ),
+    Edit(
+        "channel_unit",
+        "position: {column: sh_flex_pos, unit: deg}",
+        "position: {column: sh_flex_pos, unit: N*m}",
+        "sh_flex_pos, unit: |N*m}",
+        "joints.shoulder_flexion.channels.position.unit",
+        ("wrong dimension: expected a unit of angle (deg, rad), found 'N*m' (torque)",),
+    ),
+    Edit(
+        "channel_unknown_unit",
+        "velocity: {column: elb_vel, unit: deg/s}",
+        "velocity: {column: elb_vel, unit: degs/s}",
+        "elb_vel, unit: |degs/s}",
+        "joints.elbow_flexion.channels.velocity.unit",
+        ("unknown unit 'degs' in 'degs/s'; did you mean 'deg'?",),
+    ),
+    Edit(
+        "force_channel_unit",
+        "force: {columns: [ua_fx, ua_fy, ua_fz], unit: N,",
+        "force: {columns: [ua_fx, ua_fy, ua_fz], unit: kg,",
+        "ua_fz], unit: |kg,",
+        "contacts.upper_arm_cuff.channels.force.unit",
+        ("wrong dimension: expected a unit of force (N, kN), found 'kg' (mass)",),
+    ),
+    Edit(
+        "time_unit",
+        "main: {time: {column: t, unit: s}",
+        "main: {time: {column: t, unit: Hz}",
+        "column: t, unit: |Hz}",
+        "logging.streams.main.time.unit",
+        ("expected a unit of time (s, ms), found 'Hz' (frequency)",),
+    ),
+    Edit(
+        "lever_arm_dimension",
+        "      shoulder_flexion: 0.16 m",
+        "      shoulder_flexion: 0.16 deg",
+        "shoulder_flexion: |0.16 deg",
+        "contacts.upper_arm_cuff.lever_arms.shoulder_flexion",
+        ("expected length (m, cm, mm), found '0.16 deg' (angle); or write 'not modelled'",),
+    ),
+    Edit(
+        "lever_arm_unknown_joint",
+        "      shoulder_abduction: 0.16 m",
+        "      shoulder_abducton: 0.16 m",
+        "      |shoulder_abducton: 0.16 m",
+        "contacts.upper_arm_cuff.lever_arms.shoulder_abducton",
+        ("unknown joint 'shoulder_abducton'; did you mean 'shoulder_abduction'?",),
+    ),
+    Edit(
+        "format_version",
+        "bracer_protocol: 1",
+        "bracer_protocol: 2",
+        "bracer_protocol: |2",
+        "bracer_protocol",
+        ("reads protocol format version 1, the file says 2",),
+    ),
+    Edit(
+        "quoted_format_version",
+        "bracer_protocol: 1",
+        'bracer_protocol: "1"',
+        'bracer_protocol: |"1"',
+        "bracer_protocol",
+        ("the file says '1'", "no quotes"),
+    ),
+    Edit(
+        "version_as_number",
+        'version: "1.2"',
+        "version: 1.2",
+        "version: |1.2",
+        "protocol.version",
+        ("expected text, found the number 1.2; put it in quotes",),
+    ),
+    Edit(
+        "bad_date",
+        "date: 2027-01-15",
+        "date: 2027-13-15",
+        "  date: |2027-13-15",
+        "protocol.date",
+        ("expected a date as YYYY-MM-DD, found '2027-13-15'", "month"),
+    ),
+    Edit(
+        "negative_speed",
+        "speed: {planned: 60 deg/s, device: 90 deg/s}",
+        "speed: {planned: -60 deg/s, device: 90 deg/s}",
+        "planned: |-60 deg/s",
+        "joints.shoulder_flexion.speed.planned",
+        ("an angular speed limit is a magnitude and must be above zero, found '-60 deg/s'",),
+    ),
+    Edit(
+        "per_direction_typo",
+        "speed: {planned: 60 deg/s, device: 90 deg/s}",
+        "speed: {planned: {positive: 60 deg/s, negatve: 40 deg/s}, device: 90 deg/s}",
+        "speed: {planned: |{positive: 60 deg/s",
+        "joints.shoulder_flexion.speed.planned",
+        ("unknown key(s) 'negatve'", "did you mean 'negative'?"),
+    ),
+    Edit(
+        "set_wrong_dimension",
+        "{joint: shoulder_abduction, quantity: range, direction: positive, set: 80 deg}",
+        "{joint: shoulder_abduction, quantity: range, direction: positive, set: 80 N}",
+        "direction: positive, set: |80 N}",
+        "cautions.shoulder_subluxation.effects[0].set",
+        ("wrong dimension: the range limit needs an angle (deg, rad), found '80 N' (force)",),
+    ),
+    Edit(
+        "unknown_trigger",
+        "    emergency_stop: {column: estop",
+        "    emergncy_stop: {column: estop",
+        "    |emergncy_stop:",
+        "logging.triggers.emergncy_stop",
+        ("found 'emergncy_stop'; did you mean 'emergency_stop'?",),
+    ),
+    Edit(
+        "margin_fraction",
+        "  speed: {fraction: 0.1}",
+        "  speed: {fraction: 1.5}",
+        "speed: {fraction: |1.5}",
+        "near_miss.speed.fraction",
+        ("expected a value below 1, found 1.5",),
+    ),
+    Edit(
+        "unknown_layer",
+        "stop_on_exceedance: [device]",
+        "stop_on_exceedance: [devise]",
+        "stop_on_exceedance: [|devise]",
+        "stop.stop_on_exceedance[0]",
+        ("expected one of 'planned', 'device' or 'mechanical', found 'devise'; did you mean 'device'?",),
+    ),
+    Edit(
+        "missing_required_field",
+        "  latency_budget: 300 ms\n",
+        "",
+        "\n|stop:\n",
+        "stop.latency_budget",
+        ("missing required field 'latency_budget' (Longest allowed time from trigger to standstill)",),
+    ),
+    Edit(
+        "bad_participant_code",
+        "  AV-P02:",
+        "  2AV-P02:",
+        "  |2AV-P02:",
+        "participants.2AV-P02",
+        ("'2AV-P02' is not a valid name",),
+    ),
+    Edit(
+        "empty_roles",
+        "roles: [responsible clinician, responsible engineer, trial coordinator]",
+        "roles: []",
+        "roles: |[]",
+        "protocol.roles",
+        ("expected at least 1 item, found 0",),
+    ),
+    Edit(
+        "trigger_value_not_scalar",
+        "emergency_stop: {column: estop, active: [1]}",
+        "emergency_stop: {column: estop, active: [[1]]}",
+        "active: [|[1]]}",
+        "logging.triggers.emergency_stop.active[0]",
+        ("expected a whole number, a number or text, found a list",),
+    ),
 ]
 
 
@@ -296,8 +474,10 @@ def test_problems_are_structured_and_render_as_file_line_col(tmp_path: Path, exa
     (problem,) = info.value.problems
     line, col = edit.position(text)
     assert (problem.path, problem.line, problem.column, problem.field) == (str(path), line, col, edit.field)
-    assert re.fullmatch(rf"{re.escape(str(path))}:{line}:{col}: \[{re.escape(edit.field)}\] unknown joint .*",
-                        problem.render())
+    assert re.fullmatch(
+        rf"{re.escape(str(path))}:{line}:{col}: \[{re.escape(edit.field)}\] unknown joint .*",
+        problem.render(),
+    )
 
 
 def test_console_script_in_a_separate_process(tmp_path: Path, example_text: str) -> None:
@@ -308,8 +488,9 @@ def test_console_script_in_a_separate_process(tmp_path: Path, example_text: str)
     edit = EDITS[0]
     path = tmp_path / "p.yaml"
     path.write_text(edit.apply(example_text), encoding="utf-8")
-    proc = subprocess.run([sys.executable, "-m", "bracer", "review", str(path)], capture_output=True, text=True,
-                          timeout=60)
+    proc = subprocess.run(
+        [sys.executable, "-m", "bracer", "review", str(path)], capture_output=True, text=True, timeout=60
+    )
     assert proc.returncode == 2
     assert "Traceback" not in proc.stderr + proc.stdout
     line, col = edit.position(edit.apply(example_text))

@@ -70,12 +70,16 @@ def test_plain_values(sample: Located) -> None:
         (("last", 6), (13, 44), (13, 44)),
     ],
 )
-def test_positions_of_keys_and_values(sample: Located, loc: tuple, key: tuple[int, int], value: tuple[int, int]) -> None:  # type: ignore[type-arg]
+def test_positions_of_keys_and_values(
+    sample: Located, loc: tuple, key: tuple[int, int], value: tuple[int, int]
+) -> None:  # type: ignore[type-arg]
     assert sample.where(loc) == key
     assert sample.where(loc, value=True) == value
 
 
-def test_position_of_a_location_not_in_the_file_falls_back_to_the_nearest_enclosing_one(sample: Located) -> None:
+def test_position_of_a_location_not_in_the_file_falls_back_to_the_nearest_enclosing_one(
+    sample: Located,
+) -> None:
     # e.g. a missing field: point at the mapping that should hold it.
     assert sample.where(("joints", "elbow", "speed")) == (3, 3)
     assert sample.where(("joints", "elbow", "range", "min", "deeper")) == (4, 13)

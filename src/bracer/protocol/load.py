@@ -41,14 +41,18 @@ def load_protocol(path: str | Path) -> LoadedProtocol:
     if not isinstance(data, dict):
         raise InputError.single(
             f"expected a mapping of protocol sections at the top level, found {_kind(data)}",
-            located.path, line, col,
+            located.path,
+            line,
+            col,
         )
     if "bracer_protocol" not in data:
         hint = " (is this a bracer protocol file?)"
         raise InputError.single(
             f"missing 'bracer_protocol: {FORMAT_VERSION}' at the top; it says which format version the file "
             "follows" + hint,
-            located.path, line, col,
+            located.path,
+            line,
+            col,
         )
     try:
         protocol = Protocol.model_validate(data)
@@ -88,21 +92,26 @@ def _clean_loc(err: Any, data: Any) -> tuple[tuple[Any, ...], bool]:
     raw = tuple(err["loc"])
     kind = err["type"]
     at_key = kind in ("extra_forbidden", "missing")
-    cur = data
+    cur: Any = data
     clean: list[Any] = []
     for i, part in enumerate(raw):
         if part == "[key]":
             at_key = True
-            continue
-        if isinstance(cur, dict) and isinstance(part, str) and part in cur:
-            clean.append(part)
-            cur = cur[part]
-        elif isinstance(cur, list) and isinstance(part, int) and 0 <= part < len(cur):
+        elif _indexes(cur, part):
             clean.append(part)
             cur = cur[part]
         elif i == len(raw) - 1 and kind == "missing":
             clean.append(part)
     return tuple(clean), at_key
+
+
+def _indexes(value: Any, part: Any) -> bool:
+    """Whether ``value[part]`` is an entry of the file's data (a mapping key or a list index)."""
+    if isinstance(value, dict):
+        return isinstance(part, str) and part in value
+    if isinstance(value, list):
+        return isinstance(part, int) and 0 <= part < len(value)
+    return False
 
 
 def _group_message(errors: list[Any], loc: tuple[Any, ...]) -> str:
@@ -163,7 +172,9 @@ def _message(err: Any, loc: tuple[Any, ...]) -> str:
     if kind.startswith("value_error"):
         return msg.removeprefix("Value error, ")
     if kind == "string_type" and isinstance(found, int | float) and not isinstance(found, bool):
-        return f"expected text, found the number {found!r}; put it in quotes (\"{found}\") if it is meant as text"
+        return (
+            f'expected text, found the number {found!r}; put it in quotes ("{found}") if it is meant as text'
+        )
     if kind in _TYPE_WORDS:
         return f"expected {_TYPE_WORDS[kind]}, found {_kind(found)}"
     if kind in _BOUNDS:
@@ -289,7 +300,9 @@ def _cross_check(p: Protocol, src: Located) -> Iterable[Problem]:
         line, col = src.where(loc, value=not key)
         return Problem(message, src.path, line, col, _dotted(loc))
 
-    def unknown(kind: str, name: str, known: list[str], loc: tuple[Any, ...], *, key: bool = False) -> Problem:
+    def unknown(
+        kind: str, name: str, known: list[str], loc: tuple[Any, ...], *, key: bool = False
+    ) -> Problem:
         hint = difflib.get_close_matches(name, known, n=1, cutoff=0.5)
         did = f"; did you mean '{hint[0]}'?" if hint else f" (known: {', '.join(known) or 'none'})"
         return problem(f"unknown {kind} '{name}'{did}", loc, key=key)

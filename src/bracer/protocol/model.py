@@ -273,7 +273,7 @@ class Contact(Strict):
     body_region: BodyRegion = Field(description="Body region loaded, as in ISO/TS 15066:2016 Annex A.")
     specific_area: Text | None = Field(None, description="Specific area of Table A.2, e.g. 'forearm muscle'.")
     area: Area = Field(description="Contact area of the cuff, strap or handle on the skin.")
-    lever_arms: dict[str, LeverArm] = Field(
+    lever_arms: dict[str, LeverArm] = Field(  # type: ignore[valid-type]
         default_factory=dict,
         description="Distance from each joint axis that can load this contact to the contact's centre, "
         "or 'not modelled'.",

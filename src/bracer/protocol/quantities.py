@@ -41,8 +41,8 @@ _PATTERN = r"^\s*[+-]?(\d+(\.\d*)?|\.\d+)([eE][+-]?\d+)?\s*\S.*$"
 
 
 def exact_text(q: Quantity) -> str:
-    """``"45 deg/s"``: the quantity as a protocol file would write it, with every digit needed to read back the
-    same number (``str(q)`` rounds to four significant digits for messages)."""
+    """``"45 deg/s"``: the quantity as a protocol file would write it, with every digit needed to read back
+    the same number (``str(q)`` rounds to four significant digits for messages)."""
     text = repr(float(q.magnitude))
     if text.endswith(".0"):
         text = text[:-2]
@@ -134,8 +134,8 @@ def _directional_type(dimension: str) -> Any:
                 hint = difflib.get_close_matches(extra[0], ["positive", "negative"], n=1, cutoff=0.6)
                 did = f"; did you mean '{hint[0]}'?" if hint else ""
                 raise ValueError(
-                    f"unknown key(s) {', '.join(map(repr, extra))}: a per-direction limit takes 'positive' and "
-                    f"'negative'{did}"
+                    f"unknown key(s) {', '.join(map(repr, extra))}: a per-direction limit takes 'positive' "
+                    f"and 'negative'{did}"
                 )
             missing = [k for k in ("positive", "negative") if k not in value]
             if missing:
@@ -156,8 +156,8 @@ def _directional_type(dimension: str) -> Any:
         PlainSerializer(serialise),
         WithJsonSchema(
             {
-                "description": f"{dimension} limit ({DIMENSIONS[dimension][1]}): one value for both directions, "
-                "or {positive: ..., negative: ...}",
+                "description": f"{dimension} limit ({DIMENSIONS[dimension][1]}): one value for both "
+                "directions, or {positive: ..., negative: ...}",
                 "anyOf": [
                     quantity_schema,
                     {
@@ -178,7 +178,7 @@ DirAcceleration = _directional_type("angular acceleration")
 
 
 def quantity_or_word(dimension: str, word: str) -> Any:
-    """A field holding a quantity of ``dimension`` or the fixed text ``word`` (e.g. a length or 'not modelled').
+    """A field holding a quantity of ``dimension`` or the fixed text ``word`` (a length or 'not modelled').
 
     One validator with one message, rather than a union whose branches would each report their own error.
     """
@@ -214,7 +214,9 @@ def unit_of(dimension: str) -> Any:
 
     def validate(value: object) -> str:
         if not isinstance(value, str):
-            raise ValueError(f"expected a unit such as '{DIMENSIONS[dimension][1].split(',')[0]}', found {value!r}")
+            raise ValueError(
+                f"expected a unit such as '{DIMENSIONS[dimension][1].split(',')[0]}', found {value!r}"
+            )
         try:
             _, dim = parse_unit(value)
         except UnitError as exc:
@@ -231,5 +233,7 @@ def unit_of(dimension: str) -> Any:
     return Annotated[
         str,
         PlainValidator(validate),
-        WithJsonSchema({"type": "string", "description": f"unit of {dimension} ({DIMENSIONS[dimension][1]})"}),
+        WithJsonSchema(
+            {"type": "string", "description": f"unit of {dimension} ({DIMENSIONS[dimension][1]})"}
+        ),
     ]

@@ -96,7 +96,7 @@ def _deg(value: float) -> Quantity:
 
 
 def participant_range(protocol: Protocol, joint: str, participant: Participant | None) -> ParticipantRange:
-    """Measured passive range where recorded, else the AAOS normative value of the joint's reference motions."""
+    """Measured passive range where recorded, else the AAOS normative values of the joint's motions."""
     j = protocol.joints[joint]
     if participant is not None and joint in participant.rom:
         m = participant.rom[joint]
@@ -141,10 +141,14 @@ def resolve(protocol: Protocol, participant_code: str | None = None) -> Resoluti
         return Resolution(protocol, None, None)
     participant = protocol.participants[participant_code]
     state = _State(
-        joints={n: {q: getattr(j, q) for q in ("range", "speed", "torque", "acceleration")}
-                for n, j in protocol.joints.items()},
-        contacts={n: {q: getattr(c, q) for q in ("force", "pressure", "sustained")}
-                  for n, c in protocol.contacts.items()},
+        joints={
+            n: {q: getattr(j, q) for q in ("range", "speed", "torque", "acceleration")}
+            for n, j in protocol.joints.items()
+        },
+        contacts={
+            n: {q: getattr(c, q) for q in ("force", "pressure", "sustained")}
+            for n, c in protocol.contacts.items()
+        },
     )
     for cid in participant.cautions:
         for eff in protocol.cautions[cid].effects:
@@ -152,15 +156,17 @@ def resolve(protocol: Protocol, participant_code: str | None = None) -> Resoluti
     for i, ovr in enumerate(participant.overrides, start=1):
         _apply(state, protocol, participant, ovr, "override", f"override {i}")
 
-    joints: dict[str, Joint] = {
-        n: j.model_copy(update=state.joints[n]) for n, j in protocol.joints.items()
-    }
+    joints: dict[str, Joint] = {n: j.model_copy(update=state.joints[n]) for n, j in protocol.joints.items()}
     contacts: dict[str, Contact] = {
         n: c.model_copy(update=state.contacts[n]) for n, c in protocol.contacts.items()
     }
     effective = protocol.model_copy(update={"joints": joints, "contacts": contacts})
     return Resolution(
-        effective, participant_code, participant, tuple(state.changes), tuple(state.problems),
+        effective,
+        participant_code,
+        participant,
+        tuple(state.changes),
+        tuple(state.problems),
         tuple(participant.cautions),
     )
 
@@ -183,15 +189,19 @@ def _apply(
         layers = limits[eff.quantity]
         current = layers.layer(eff.layer)
         if current is None:
-            problem(f"changes the {eff.layer} {eff.quantity} limit of joint '{target}', which the protocol "
-                    "does not declare")
+            problem(
+                f"changes the {eff.layer} {eff.quantity} limit of joint '{target}', which the protocol "
+                "does not declare"
+            )
             return
         if eff.quantity == "range":
             new_bounds = _apply_range(state, protocol, participant, eff, kind, source, current, problem)
             if new_bounds is not None:
                 limits["range"] = layers.model_copy(update={eff.layer: new_bounds})
             return
-        dim = {"speed": "angular speed", "torque": "torque", "acceleration": "angular acceleration"}[eff.quantity]
+        dim = {"speed": "angular speed", "torque": "torque", "acceleration": "angular acceleration"}[
+            eff.quantity
+        ]
         updated: Directional = current
         for direction in _directions(eff.direction):
             before = current.get(direction)
@@ -199,10 +209,22 @@ def _apply(
             if after is None:
                 return
             if after.si <= 0:
-                problem(f"would set the {eff.layer} {eff.quantity} limit to {after}; a limit must stay above zero")
+                problem(
+                    f"would set the {eff.layer} {eff.quantity} limit to {after}; a limit must stay above zero"
+                )
                 return
-            accepted = _record(state, eff, kind, source, "joint", target, f"{eff.layer}.{direction}", before, after,
-                               tighter=after.si <= before.si)
+            accepted = _record(
+                state,
+                eff,
+                kind,
+                source,
+                "joint",
+                target,
+                f"{eff.layer}.{direction}",
+                before,
+                after,
+                tighter=after.si <= before.si,
+            )
             if accepted:
                 updated = updated.replace(direction, after)
         if eff.direction == "both" and updated.positive == updated.negative:
@@ -215,11 +237,16 @@ def _apply(
     limits = state.contacts[eff.contact]
     group = limits[eff.quantity]
     if group is None:
-        problem(f"changes the {eff.quantity} limit of contact '{target}', which the protocol does not declare")
+        problem(
+            f"changes the {eff.quantity} limit of contact '{target}', which the protocol does not declare"
+        )
         return
     item = eff.item
-    valid = {"force": ("quasi_static", "transient"), "pressure": ("quasi_static", "transient"),
-             "sustained": ("level", "max_duration")}[eff.quantity]
+    valid = {
+        "force": ("quasi_static", "transient"),
+        "pressure": ("quasi_static", "transient"),
+        "sustained": ("level", "max_duration"),
+    }[eff.quantity]
     if item not in valid:
         if eff.quantity == "sustained" and item == "quasi_static":
             item = "level"  # the default item of a contact effect means the sustained level
@@ -228,18 +255,23 @@ def _apply(
             return
     before = getattr(group, item)
     if before is None:
-        problem(f"changes the {item.replace('_', '-')} {eff.quantity} limit of contact '{target}', which the "
-                "protocol does not declare")
+        problem(
+            f"changes the {item.replace('_', '-')} {eff.quantity} limit of contact '{target}', which the "
+            "protocol does not declare"
+        )
         return
     dim = {"force": "force", "pressure": "pressure", "sustained": "force" if item == "level" else "time"}[
-        eff.quantity]
+        eff.quantity
+    ]
     after = _new_value(eff, before, dim, problem)
     if after is None:
         return
     if after.si <= 0:
         problem(f"would set the {eff.quantity} limit to {after}; a limit must stay above zero")
         return
-    if _record(state, eff, kind, source, "contact", target, item, before, after, tighter=after.si <= before.si):
+    if _record(
+        state, eff, kind, source, "contact", target, item, before, after, tighter=after.si <= before.si
+    ):
         limits[eff.quantity] = group.model_copy(update={item: after})
 
 
@@ -264,8 +296,10 @@ def _apply_range(
         before = current.get(direction)
         if eff.measured_minus is not None:
             if target not in participant.rom:
-                problem(f"needs the participant's measured range of motion for joint '{target}', and none is "
-                        "recorded; the limit was left unchanged")
+                problem(
+                    f"needs the participant's measured range of motion for joint '{target}', and none is "
+                    "recorded; the limit was left unchanged"
+                )
                 return None
             rom = participant.rom[target]
             margin = eff.measured_minus.si
@@ -273,7 +307,9 @@ def _apply_range(
             after = before.with_si(si)
         else:
             if eff.set is not None and eff.direction == "both":
-                problem("a range 'set' needs a direction (positive for the max end, negative for the min end)")
+                problem(
+                    "a range 'set' needs a direction (positive for the max end, negative for the min end)"
+                )
                 return None
             maybe = _new_value(eff, before, "angle", problem)
             if maybe is None:
@@ -290,13 +326,17 @@ def _apply_range(
             else:
                 new_min = after
     if not new_min.si < new_max.si:
-        problem(f"would leave an empty {eff.layer} range [{new_min}, {new_max}] for joint '{target}'; "
-                "the limit was left unchanged")
+        problem(
+            f"would leave an empty {eff.layer} range [{new_min}, {new_max}] for joint '{target}'; "
+            "the limit was left unchanged"
+        )
         return None
     new_min, new_max = current.min, current.max
     for direction, before, after, tighter in proposed:
         end = "max" if direction == "positive" else "min"
-        if _record(state, eff, kind, source, "joint", target, f"{eff.layer}.{end}", before, after, tighter=tighter):
+        if _record(
+            state, eff, kind, source, "joint", target, f"{eff.layer}.{end}", before, after, tighter=tighter
+        ):
             if direction == "positive":
                 new_max = after
             else:
@@ -313,8 +353,10 @@ def _new_value(eff: Effect, before: Quantity, dim: str, problem: Any) -> Quantit
         return before.scaled(eff.scale)
     if eff.set is not None:
         if eff.set.dimension != DIMENSIONS[dim][0]:
-            problem(f"sets {eff.set} ({dimension_name(eff.set.dimension)}) where {dim} ({DIMENSIONS[dim][1]}) "
-                    "is expected")
+            problem(
+                f"sets {eff.set} ({dimension_name(eff.set.dimension)}) where {dim} ({DIMENSIONS[dim][1]}) "
+                "is expected"
+            )
             return None
         return eff.set
     problem(f"'measured_minus' applies to range limits only, not {eff.quantity}")
@@ -322,28 +364,71 @@ def _new_value(eff: Effect, before: Quantity, dim: str, problem: Any) -> Quantit
 
 
 def _record(
-    state: _State, eff: Effect, kind: Literal["caution", "override"], source: str,
-    target_kind: Literal["joint", "contact"], target: str, part: str, before: Quantity, after: Quantity,
-    *, tighter: bool,
+    state: _State,
+    eff: Effect,
+    kind: Literal["caution", "override"],
+    source: str,
+    target_kind: Literal["joint", "contact"],
+    target: str,
+    part: str,
+    before: Quantity,
+    after: Quantity,
+    *,
+    tighter: bool,
 ) -> bool:
     """Record a change; return whether the new value is taken."""
     same = abs(after.si - before.si) <= 1e-12 * max(1.0, abs(before.si))
     if kind == "caution":
         applied = tighter or same
         note = "" if applied else "not applied: the limit in force is already tighter"
-        state.changes.append(Change(kind, source, target_kind, target, eff.quantity, part, before, after,
-                                    applied, False, None, note))
+        state.changes.append(
+            Change(
+                kind,
+                source,
+                target_kind,
+                target,
+                eff.quantity,
+                part,
+                before,
+                after,
+                applied,
+                False,
+                None,
+                note,
+            )
+        )
         return applied and not same
     justification = eff.justification if isinstance(eff, Override) else None
     loosens = not (tighter or same)
     note = ""
     if loosens:
-        note = "loosens the limit" + (f"; justification: {justification}" if justification else
-                                      "; no written justification given")
+        note = "loosens the limit" + (
+            f"; justification: {justification}" if justification else "; no written justification given"
+        )
         if not justification:
-            state.problems.append(ResolveProblem(kind, source, target,
-                                                 f"loosens {eff.quantity} {part} of {target_kind} '{target}' "
-                                                 f"from {before} to {after} without a written justification"))
-    state.changes.append(Change(kind, source, target_kind, target, eff.quantity, part, before, after, True,
-                                loosens, justification, note))
+            state.problems.append(
+                ResolveProblem(
+                    kind,
+                    source,
+                    target,
+                    f"loosens {eff.quantity} {part} of {target_kind} '{target}' "
+                    f"from {before} to {after} without a written justification",
+                )
+            )
+    state.changes.append(
+        Change(
+            kind,
+            source,
+            target_kind,
+            target,
+            eff.quantity,
+            part,
+            before,
+            after,
+            True,
+            loosens,
+            justification,
+            note,
+        )
+    )
     return True

@@ -30,9 +30,9 @@ Loc = tuple[str | int, ...]
 class Located:
     """Plain data from a YAML file, with the (line, column) of every location in it (both 1-based).
 
-    ``positions`` maps a location (a tuple of mapping keys and list indices) to where it is named: the key of a
-    mapping entry, or the start of a list item (the document itself is at ``()``).  ``values`` maps it to where
-    its value starts, which for ``min: 130 deg`` is the ``130`` rather than the ``min``.
+    ``positions`` maps a location (a tuple of mapping keys and list indices) to where it is named: the key of
+    a mapping entry, or the start of a list item (the document itself is at ``()``).  ``values`` maps it to
+    where its value starts, which for ``min: 130 deg`` is the ``130`` rather than the ``min``.
     """
 
     data: Any
@@ -85,7 +85,9 @@ def load_yaml(path: str | Path) -> Located:
     except OSError as exc:
         raise InputError.single(f"cannot read file: {exc.strerror}", name) from None
     if len(raw) > _MAX_BYTES:
-        raise InputError.single(f"file is {len(raw)} bytes; a protocol file is expected to be text under 5 MB", name)
+        raise InputError.single(
+            f"file is {len(raw)} bytes; a protocol file is expected to be text under 5 MB", name
+        )
     if b"\x00" in raw:
         raise InputError.single("binary file (contains NUL bytes); expected a YAML text file", name)
     try:
@@ -177,12 +179,16 @@ class _Builder:
         if self.count > MAX_VALUES:
             raise self.fail(
                 f"the file expands to more than {MAX_VALUES:,} values (YAML aliases repeating large parts?); "
-                "a protocol file is far smaller", node, loc,
+                "a protocol file is far smaller",
+                node,
+                loc,
             )
         if isinstance(node, yaml.ScalarNode):
             return _scalar(node)
         if len(loc) >= MAX_DEPTH:
-            raise self.fail(f"nested more than {MAX_DEPTH} levels deep; a protocol file needs far fewer", node, loc)
+            raise self.fail(
+                f"nested more than {MAX_DEPTH} levels deep; a protocol file needs far fewer", node, loc
+            )
         if id(node) in self.open:
             raise self.fail("a YAML alias here refers to a collection that contains it (a loop)", node, loc)
         self.open.add(id(node))
@@ -200,7 +206,9 @@ class _Builder:
                 raise self.fail("mapping keys must be plain names", key_node, loc)
             if key_node.tag == "tag:yaml.org,2002:merge":
                 raise self.fail(
-                    "YAML merge keys ('<<') are not supported in protocol files; write the fields out", key_node, loc
+                    "YAML merge keys ('<<') are not supported in protocol files; write the fields out",
+                    key_node,
+                    loc,
                 )
             key = str(key_node.value)
             if key in out:
