@@ -59,7 +59,7 @@ def main_table(duration: float = 1.0, rate: float = 1000.0, seed: int = 1) -> pa
         if has_vel:
             cols[f"{prefix}_vel"] = _round(amp * dp + rng.normal(0, 0.05, n))
         cols[f"{prefix}_tau"] = _round(torque * (1 + 0.3 * p) + rng.normal(0, 0.02, n))
-    cols["fa_rot_pos"] = _round(0.5 + rng.normal(0, 0.05, n))
+    cols["fa_rot_pos"] = _round(0.5 + rng.normal(0, 0.005, n))
     cols["fa_rot_tau"] = _round(0.1 + rng.normal(0, 0.02, n))
     data: dict[str, pa.Array] = {k: pa.array(v) for k, v in cols.items()}
     for name, value in (("estop", 0), ("pstop", 0), ("safety_state", 0), ("soft_limits_on", 1)):

@@ -1,0 +1,122 @@
+"""The audit's data-quality pass: the log's time base and values are checked before any limit.
+
+Each check is a module with a registered :class:`~bracer.findings.Check` (codes ``Q1xx``) and a
+``run(ctx) -> QualityResult``: its findings, and the samples it found unfit to analyse.  :func:`run_quality`
+runs them in :data:`ORDER` -- each sees the masks of those before it -- then sets the session's
+``time_valid`` and ``channel_valid`` masks that the limit checks read through ``Session.signal``, and
+measures the analysed coverage.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+
+import numpy as np
+
+from bracer.audit.context import AuditContext
+from bracer.audit.quality import (
+    constant,
+    dropped_rows,
+    empty_stream,
+    force_offset,
+    gaps,
+    missing_columns,
+    missing_values,
+    sample_rate,
+    saturation,
+    time_order,
+    unit_suspect,
+)
+from bracer.audit.quality.base import QualityResult, StreamTiming
+from bracer.audit.quality.coverage import Coverage, coverage
+from bracer.findings import Finding
+from bracer.protocol.resolve import Resolution
+from bracer.session.channelmap import channel_map
+from bracer.session.model import Session
+
+__all__ = ["ORDER", "QualityOutcome", "run_quality"]
+
+#: The checks in the order they run: reading problems, then the clock, then the values.
+ORDER = (
+    missing_columns,
+    dropped_rows,
+    empty_stream,
+    time_order,
+    unit_suspect,
+    sample_rate,
+    gaps,
+    missing_values,
+    constant,
+    saturation,
+    force_offset,
+)
+
+
+@dataclass(frozen=True, eq=False)
+class QualityOutcome:
+    """The session with its masks set, what the pass found, each stream's clock, and the coverage."""
+
+    session: Session
+    findings: tuple[Finding, ...]
+    timings: tuple[StreamTiming, ...]
+    coverage: Coverage
+    codes: tuple[str, ...]  # the checks that ran
+
+
+class _Masks:
+    """Masks gathered over the pass: per stream (time base) and per channel (True = not analysed)."""
+
+    def __init__(self, session: Session) -> None:
+        self.session = session
+        self.time: dict[str, np.ndarray] = {n: np.isfinite(s.time) for n, s in session.streams.items()}
+        self.flags: dict[str, dict[str, np.ndarray]] = {}
+
+    def add(self, result: QualityResult) -> None:
+        for inv in result.invalid:
+            if inv.column is None:
+                self.time[inv.stream] = self.time[inv.stream] & ~inv.bad
+            else:
+                per = self.flags.setdefault(inv.stream, {})
+                per[inv.column] = per[inv.column] | inv.bad if inv.column in per else inv.bad.copy()
+
+    def channel_valid(self, final: bool) -> dict[str, dict[str, np.ndarray]]:
+        """Valid masks of flagged channels (all channels when ``final``).
+
+        An unflagged channel without NaNs shares its stream's time mask (no copy).
+        """
+        out: dict[str, dict[str, np.ndarray]] = {}
+        for name, stream in self.session.streams.items():
+            tv = self.time[name]
+            flags = self.flags.get(name, {})
+            per: dict[str, np.ndarray] = {}
+            for column, x in stream.channels.items():
+                if column in flags:
+                    per[column] = tv & np.isfinite(x) & ~flags[column]
+                elif final:
+                    finite = np.isfinite(x)
+                    per[column] = tv if finite.all() else tv & finite
+            out[name] = per
+        return out
+
+    def apply(self, final: bool = False) -> Session:
+        s = self.session
+        return Session(s.streams, s.inputs, dict(self.time), self.channel_valid(final), s.missing, s.dropped)
+
+
+def run_quality(resolution: Resolution, session: Session) -> QualityOutcome:
+    """Run every data-quality check on ``session`` against the effective protocol in ``resolution``."""
+    masks = _Masks(session)
+    findings: list[Finding] = []
+    timings: tuple[StreamTiming, ...] = ()
+    current = masks.apply()
+    for module in ORDER:
+        result = module.run(AuditContext(resolution, current))
+        findings.extend(result.findings)
+        timings = timings or result.timings
+        if result.invalid:
+            masks.add(result)
+            current = masks.apply()
+    final = masks.apply(final=True)
+    protocol = resolution.protocol
+    cov = coverage(final, channel_map(protocol), protocol.audit.gap_tolerance)
+    return QualityOutcome(final, tuple(findings), timings, cov, tuple(m.CHECK.code for m in ORDER))

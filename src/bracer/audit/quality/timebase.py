@@ -1,0 +1,52 @@
+"""Facts about a stream's clock shared by the time checks and the coverage."""
+
+from __future__ import annotations
+
+import numpy as np
+
+from bracer.audit.context import AuditContext
+from bracer.audit.quality.base import StreamTiming
+from bracer.session.model import Stream
+
+__all__ = ["regular_steps", "time_valid", "timing"]
+
+
+def time_valid(ctx: AuditContext, stream: Stream) -> np.ndarray:
+    """The stream's time mask so far (all True before the time checks ran)."""
+    tv = ctx.session.time_valid.get(stream.name)
+    return np.isfinite(stream.time) if tv is None else tv
+
+
+def regular_steps(t: np.ndarray, valid: np.ndarray, tolerance: float) -> np.ndarray:
+    """Steps between consecutive valid samples that are positive and at most ``tolerance`` × the median step.
+
+    Returns
+    -------
+    ndarray, shape (m,), float64
+        The regular steps, s (empty when there are fewer than two valid samples).
+    """
+    tv = t[valid] if not valid.all() else t
+    if tv.size < 2:
+        return np.zeros(0)
+    dt = np.diff(tv)
+    dt = dt[dt > 0]
+    if dt.size == 0:
+        return dt
+    median = float(np.median(dt))
+    return dt[dt <= tolerance * median]
+
+
+def timing(ctx: AuditContext, stream: Stream) -> StreamTiming:
+    """Measured rate (1 / mean regular step) and jitter (standard deviation of the regular steps)."""
+    tv = time_valid(ctx, stream)
+    steps = regular_steps(stream.time, tv, ctx.resolution.protocol.audit.gap_tolerance)
+    t_ok = stream.time[tv] if not tv.all() else stream.time
+    first = float(t_ok[0]) if t_ok.size else None
+    last = float(t_ok[-1]) if t_ok.size else None
+    rate = jitter = None
+    if steps.size >= 2:
+        mean = float(steps.mean())
+        rate, jitter = 1.0 / mean, float(steps.std())
+    return StreamTiming(
+        stream.name, stream.source.path, stream.n, first, last, stream.expected_rate, rate, jitter
+    )
