@@ -344,7 +344,8 @@ def parse_quantity(value: object, expected: str | None = None) -> Quantity:
             + (f" ({expected}: {want[1]})" if want else "")
         )
     if not isinstance(value, str):
-        raise UnitError(f"expected a quantity with a unit{example}, found {type(value).__name__}")
+        kind = {dict: "a mapping", list: "a list"}.get(type(value), type(value).__name__)
+        raise UnitError(f"expected a quantity with a unit{example}, found {kind}")
     m = _NUMBER.match(value)
     if m is None:
         raise UnitError(f"expected a number followed by a unit{example}, found '{value}'")

@@ -175,6 +175,8 @@ def _message(err: Any, loc: tuple[Any, ...]) -> str:
         return (
             f'expected text, found the number {found!r}; put it in quotes ("{found}") if it is meant as text'
         )
+    if kind == "string_type" and isinstance(found, bool):
+        return f"expected text, found {_kind(found)}; put the word in quotes if it is meant as text"
     if kind in _TYPE_WORDS:
         return f"expected {_TYPE_WORDS[kind]}, found {_kind(found)}"
     if kind in _BOUNDS:
@@ -218,6 +220,10 @@ def _kind(value: object) -> str:
         return "a list"
     if isinstance(value, str):
         return f"the text {value!r}"
+    if isinstance(value, bool):
+        return f"{str(value).lower()} (YAML reads yes/no/on/off/true/false as true or false)"
+    if isinstance(value, int | float):
+        return f"the number {value!r}"
     return f"{type(value).__name__} {value!r}"
 
 

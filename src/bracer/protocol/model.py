@@ -462,7 +462,9 @@ class Effect(Strict):
             raise ValueError("give exactly one of 'set', 'scale' or 'measured_minus'")
         joint_q = {"range", "speed", "torque", "acceleration"}
         if self.joint is not None and self.quantity not in joint_q:
-            raise ValueError(f"a joint's quantity is one of {sorted(joint_q)}, found '{self.quantity}'")
+            raise ValueError(
+                f"a joint's quantity is one of {', '.join(sorted(joint_q))}, found '{self.quantity}'"
+            )
         if self.contact is not None and self.quantity in joint_q:
             raise ValueError(f"a contact's quantity is force, pressure or sustained, found '{self.quantity}'")
         if self.measured_minus is not None and self.quantity != "range":
