@@ -198,6 +198,16 @@ def test_missing_torque_channel() -> None:
     assert cat.kind is Kind.NOT_ASSESSABLE
 
 
+def test_torque_channel_not_mapped_is_a_protocol_gap_warning() -> None:
+    t = clock(2.0)
+    p, v = kinematics(t)
+    proto = protocol(STOP, {"joints": {"elbow": {"channels": {"torque": DELETE}, "torque": DELETE}}})
+    ctx = context(proto, stream(t, {"elb_pos": p, "elb_vel": v} | quiet_cuff(t),
+                                states={"estop": (t >= T_TRIG).astype(float), "pstop": np.zeros(t.size)}))
+    off = only(torque_off.run(ctx))
+    assert (off.kind, off.severity, off.channel) == (Kind.NOT_ASSESSABLE, Severity.WARNING, None)
+
+
 # --------------------------------------------------------------------------------------------- distance
 
 

@@ -12,7 +12,8 @@ is the latest joint's.  One finding per stop episode, quantity ``torque_off``, i
 * not off on every joint before the log ends: kind ``violation``, severity error, ``peak`` None.
 
 Category 2 keeps power by design: no torque-off timing (A204 checks that the torque was kept).  Not
-assessable: a joint without a usable torque channel (error, once per joint), and a category 0/1 stop without
+assessable: a joint whose torque column is missing from the log or has no valid sample (error, once per
+joint), a joint the protocol maps no torque channel for (warning), and a category 0/1 stop without
 ``stop.torque_off`` in the protocol (warning, once).
 """
 
@@ -65,6 +66,9 @@ def run(ctx: AuditContext) -> list[Finding]:
             subject_kind="joint",
             quantity="torque_off",
             what=f"torque off of joint '{joint}' after stop triggers",
+            # a column the protocol maps but the log lacks is a data problem (error); a joint the protocol
+            # maps no torque channel for is a protocol gap the review reports (warning)
+            severity=Severity.ERROR if why.channel is not None else Severity.WARNING,
         )
         for joint, why in sa.torque_missing
     ]
