@@ -279,8 +279,8 @@ def test_rom_aaos_agrees_with_zwerus_for_elbow_and_forearm(motion: str) -> None:
 
 
 def test_the_tolerance_catches_a_tenfold_transcription_error() -> None:
-    # Every row mis-scaled by 10 (either way, either source) must fail the cross-check, unless the error itself
-    # is within the 3-degree floor (1 deg read as 0.1 deg; 0 stays 0): the exact-value tests catch it.
+    # Every row mis-scaled by 10 (either way, either source) must fail the cross-check, unless the error
+    # itself is within the 3-degree floor (1 deg read as 0.1 deg; 0 stays 0): the exact-value tests catch it.
     pairs = [(m, "Boone & Azen 1979") for m in NORKIN_WHITE] + [
         (m, "Zwerus et al. 2017") for m in ZWERUS_2017
     ]

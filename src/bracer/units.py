@@ -344,7 +344,9 @@ def parse_quantity(value: object, expected: str | None = None) -> Quantity:
             + (f" ({expected}: {want[1]})" if want else "")
         )
     if not isinstance(value, str):
-        kind = {dict: "a mapping", list: "a list"}.get(type(value), type(value).__name__)
+        kind = type(value).__name__
+        if isinstance(value, dict | list):
+            kind = "a mapping" if isinstance(value, dict) else "a list"
         raise UnitError(f"expected a quantity with a unit{example}, found {kind}")
     m = _NUMBER.match(value)
     if m is None:

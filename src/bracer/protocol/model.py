@@ -253,10 +253,11 @@ class ForceChannel(Strict):
     @model_validator(mode="after")
     def _one_source(self) -> ForceChannel:
         if (self.column is None) == (self.columns is None):
-            raise ValueError("give either 'column' (one force column) or 'columns' (force axes), not both/neither")
-        if self.use == "axis":
-            if self.columns is None or self.axis not in self.columns:
-                raise ValueError("use: axis needs 'columns' and an 'axis' that is one of them")
+            raise ValueError(
+                "give either 'column' (one force column) or 'columns' (force axes), not both/neither"
+            )
+        if self.use == "axis" and (self.columns is None or self.axis not in self.columns):
+            raise ValueError("use: axis needs 'columns' and an 'axis' that is one of them")
         return self
 
     @property
@@ -319,7 +320,7 @@ class StopFunction(Strict):
     standstill: Standstill
     torque_off: TorqueOff | None = None
     stop_on_exceedance: list[LayerName] = Field(
-        default_factory=lambda: ["device"],
+        default_factory=lambda: list[LayerName](["device"]),
         description="Exceeding a limit of these layers must be followed by a stop.",
     )
 
@@ -348,7 +349,7 @@ Scalar = int | float | str
 
 
 class TriggerChannel(Strict):
-    """A column that signals a stop request: either values that mean 'active', or values that mean 'normal'."""
+    """A column that signals a stop request: values that mean 'active', or values that mean 'normal'."""
 
     column: Text
     stream: Name = "main"
@@ -383,7 +384,7 @@ class Logging(Strict):
 
 
 class Margin(Strict):
-    """Near-miss band below a limit: a fraction of the limit and/or an absolute value (the wider band wins)."""
+    """Near-miss band below a limit: a fraction of the limit and/or an absolute value (the wider wins)."""
 
     fraction: Fraction | None = None
     absolute: AnyQuantity | None = None
@@ -423,7 +424,8 @@ class AuditSettings(Strict):
         0.02, description="An event ends when the value falls this fraction of the limit below it."
     )
     force_offset_tolerance: Force = Field(
-        default_factory=lambda: _q(3, "N"), description="Largest force reading allowed while the device is at rest."
+        default_factory=lambda: _q(3, "N"),
+        description="Largest force reading allowed while the device is at rest.",
     )
     derivative_window: Time = Field(
         default_factory=lambda: _q(21, "ms"),
@@ -507,7 +509,9 @@ class MeasuredRom(Strict):
 
 class Participant(Strict):
     cautions: list[Name] = Field(default_factory=list)
-    rom: dict[Name, MeasuredRom] = Field(default_factory=dict, description="Measured passive range per joint.")
+    rom: dict[Name, MeasuredRom] = Field(
+        default_factory=dict, description="Measured passive range per joint."
+    )
     overrides: list[Override] = Field(default_factory=list)
     locked_joints: list[Name] | None = Field(None, description="Replaces the protocol's locked joints.")
 

@@ -23,6 +23,7 @@ __all__ = [
     "body_region_limits",
     "rom_reference",
     "rom_rows",
+    "sha256",
     "table_paths",
 ]
 
@@ -43,7 +44,10 @@ class RomRow:
 
 @dataclass(frozen=True, slots=True)
 class BodyRegionLimit:
-    """Quasi-static limits of one specific area (Table A.2); the transient limit is ``transient_factor`` times."""
+    """Quasi-static limits of one specific area (Table A.2), in N/cm^2 and N.
+
+    The transient limit is ``transient_factor`` times the quasi-static one (0: no transient contact allowed).
+    """
 
     region: str
     specific_area: str
@@ -119,8 +123,13 @@ def body_region_limits() -> tuple[BodyRegionLimit, ...]:
 @cache
 def body_model() -> dict[str, BodyModelRow]:
     return {
-        r["region"]: BodyModelRow(r["region"], _float(r, "k_N_per_mm", BODY_FILE), _float(r, "m_H_kg", BODY_FILE),
-                                  r["confidence"], r["source"])
+        r["region"]: BodyModelRow(
+            r["region"],
+            _float(r, "k_N_per_mm", BODY_FILE),
+            _float(r, "m_H_kg", BODY_FILE),
+            r["confidence"],
+            r["source"],
+        )
         for r in _rows(BODY_FILE)
     }
 
