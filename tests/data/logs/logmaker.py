@@ -123,3 +123,35 @@ if __name__ == "__main__":
     folder = Path(sys.argv[1]) if len(sys.argv) > 1 else HERE
     for name, table in samples().items():
         print(write(table, folder / name))
+
+
+# ------------------------------------------------------------------------------------ helpers for the tests
+
+
+def protocol_variant(folder: Path, *replacements: tuple[str, str]) -> Path:
+    """A copy of the example protocol with text replacements (each must match), written to ``folder``."""
+    text = PROTOCOL.read_text(encoding="utf-8")
+    for old, new in replacements:
+        if old not in text:
+            raise ValueError(f"not in the example protocol: {old!r}")
+        text = text.replace(old, new)
+    path = Path(folder) / "protocol.yaml"
+    path.write_text(text, encoding="utf-8")
+    return path
+
+
+def replace_column(table: pa.Table, name: str, values: np.ndarray | pa.Array) -> pa.Table:
+    """``table`` with column ``name`` replaced (same position)."""
+    i = table.column_names.index(name)
+    return table.set_column(i, name, values if isinstance(values, pa.Array) else pa.array(values))
+
+
+def write_logs(
+    folder: Path, suffix: str = ".csv", main: pa.Table | None = None, cuffs: pa.Table | None = None
+) -> list[Path]:
+    """The two-file session (joints at 1 kHz, cuffs at 500 Hz) written in one format; returns the paths."""
+    folder = Path(folder)
+    return [
+        write(main if main is not None else main_table(), folder / f"main{suffix}"),
+        write(cuffs if cuffs is not None else cuff_table(), folder / f"cuffs{suffix}"),
+    ]
