@@ -155,3 +155,22 @@ def write_logs(
         write(main if main is not None else main_table(), folder / f"main{suffix}"),
         write(cuffs if cuffs is not None else cuff_table(), folder / f"cuffs{suffix}"),
     ]
+
+
+def quality_of(
+    folder: Path,
+    main: pa.Table | None = None,
+    cuffs: pa.Table | None = None,
+    protocol: Path | None = None,
+    participant: str | None = None,
+    suffix: str = ".parquet",
+):  # -> bracer.audit.quality.QualityOutcome
+    """Write the logs, read them and run the audit's data-quality pass."""
+    from bracer.audit.quality import run_quality
+    from bracer.protocol.load import load_protocol
+    from bracer.protocol.resolve import resolve
+    from bracer.session.read import read_session
+
+    resolution = resolve(load_protocol(protocol or PROTOCOL).protocol, participant)
+    session = read_session(resolution.protocol, write_logs(folder, suffix, main, cuffs))
+    return run_quality(resolution, session)

@@ -29,8 +29,8 @@ class Invalidation:
 class StreamTiming:
     """A stream's clock as measured: for the record and the terminal summary.
 
-    ``rate`` and ``jitter`` come from the regular steps (positive, at most gap-tolerance × the median step);
-    None when the stream has fewer than two such steps.
+    ``rate`` and ``jitter`` come from the regular steps (positive, at most gap-tolerance × the declared
+    period or the median step, whichever is longer); None when the stream has fewer than two such steps.
     """
 
     stream: str

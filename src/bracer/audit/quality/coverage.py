@@ -15,6 +15,7 @@ from dataclasses import dataclass
 import numpy as np
 
 from bracer.audit.quality.runs import runs
+from bracer.audit.quality.timebase import SLACK
 from bracer.session.channelmap import StreamNeeds
 from bracer.session.model import Session
 
@@ -57,7 +58,7 @@ def _intervals(t: np.ndarray, valid: np.ndarray, allowed: float) -> tuple[np.nda
         return empty, empty, 0.0
     tv = t[idx]
     dt = np.diff(tv)
-    ok = (dt > 0) & (dt <= allowed)
+    ok = (dt > 0) & (dt <= allowed * (1 + SLACK))
     first, last = runs(ok)
     return tv[first], tv[last + 1], float(dt[ok].sum())
 

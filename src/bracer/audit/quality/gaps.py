@@ -11,7 +11,7 @@ import numpy as np
 from bracer.audit.context import AuditContext
 from bracer.audit.quality.base import QualityResult, fmt_s, make_finding
 from bracer.audit.quality.runs import capped
-from bracer.audit.quality.timebase import time_valid
+from bracer.audit.quality.timebase import SLACK, time_valid
 from bracer.findings import Check, Finding, Severity, register
 from bracer.session.model import Stream
 
@@ -37,7 +37,7 @@ def run(ctx: AuditContext) -> QualityResult:
         t = stream.time[idx]
         allowed = tol / stream.expected_rate
         dt = np.diff(t)
-        at = np.flatnonzero(dt > allowed)
+        at = np.flatnonzero(dt > allowed * (1 + SLACK))
         if at.size:
             findings += _report(stream, t, idx, at, allowed, tol)
     return QualityResult(tuple(findings))

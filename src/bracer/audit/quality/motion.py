@@ -30,7 +30,8 @@ class JointMotion:
 
 
 def position_rate(t: np.ndarray, x: np.ndarray, valid: np.ndarray, window: float) -> np.ndarray:
-    """Rate of change of ``x`` (unit of x per s), shape (n,), NaN where the window leaves the valid samples.
+    """Rate of change of ``x`` (unit of x per s), shape (n,); NaN where the window leaves the valid samples or
+    spans a gap (its length more than 25 % off 2k median steps).
 
     Parameters
     ----------
@@ -49,8 +50,11 @@ def position_rate(t: np.ndarray, x: np.ndarray, valid: np.ndarray, window: float
     k = max(1, round(window / step / 2)) if step > 0 else 1
     if idx.size <= 2 * k:
         return out
-    rate = (xv[2 * k :] - xv[: -2 * k]) / (tv[2 * k :] - tv[: -2 * k])
-    out[idx[k:-k]] = rate
+    span = tv[2 * k :] - tv[: -2 * k]
+    rate = (xv[2 * k :] - xv[: -2 * k]) / span
+    # a window across a gap or a jump of the clock measures nothing: leave it out
+    regular = np.abs(span - 2 * k * step) <= 0.25 * 2 * k * step
+    out[idx[k:-k]] = np.where(regular, rate, np.nan)
     return out
 
 

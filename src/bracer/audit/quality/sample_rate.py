@@ -1,9 +1,9 @@
 """Q105 sample-rate: the measured sample rate and its jitter against the declared rate.
 
-The rate is 1 / the mean of the regular steps (positive steps no longer than gap-tolerance × the median
-step; longer ones are gaps), the jitter is their standard deviation.  A rate more than 1 % from the declared
-one, or a jitter above 25 % of the declared period, is a warning (thresholds: common practice, no source);
-the measured figures are always in the record.
+The rate is 1 / the mean of the regular steps (positive steps no longer than gap-tolerance × the declared
+period, or × the median step where that is longer), the jitter is their standard deviation.  A rate more
+than 1 % from the declared one, or a jitter above 25 % of the declared period, is a warning (thresholds:
+common practice, no source); the measured figures are always in the record.
 """
 
 from __future__ import annotations

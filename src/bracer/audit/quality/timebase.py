@@ -8,7 +8,11 @@ from bracer.audit.context import AuditContext
 from bracer.audit.quality.base import StreamTiming
 from bracer.session.model import Stream
 
-__all__ = ["regular_steps", "time_valid", "timing"]
+__all__ = ["SLACK", "regular_steps", "time_valid", "timing"]
+
+#: Relative slack on step comparisons: a step of exactly the allowed length, off by float rounding in the
+#: log's time stamps (0.501 - 0.499 = 0.0020000000000000018), is not longer than allowed.
+SLACK = 1e-9
 
 
 def time_valid(ctx: AuditContext, stream: Stream) -> np.ndarray:
@@ -17,8 +21,10 @@ def time_valid(ctx: AuditContext, stream: Stream) -> np.ndarray:
     return np.isfinite(stream.time) if tv is None else tv
 
 
-def regular_steps(t: np.ndarray, valid: np.ndarray, tolerance: float) -> np.ndarray:
-    """Steps between consecutive valid samples that are positive and at most ``tolerance`` × the median step.
+def regular_steps(t: np.ndarray, valid: np.ndarray, tolerance: float, period: float) -> np.ndarray:
+    """Steps between consecutive valid samples that are positive and at most ``tolerance`` × the reference
+    step: the declared ``period``, or the median step where that is longer (a stream logged slower than
+    declared still has a measurable rate).
 
     Returns
     -------
@@ -32,14 +38,16 @@ def regular_steps(t: np.ndarray, valid: np.ndarray, tolerance: float) -> np.ndar
     dt = dt[dt > 0]
     if dt.size == 0:
         return dt
-    median = float(np.median(dt))
-    return dt[dt <= tolerance * median]
+    reference = max(float(np.median(dt)), period)
+    return dt[dt <= tolerance * reference * (1 + SLACK)]
 
 
 def timing(ctx: AuditContext, stream: Stream) -> StreamTiming:
     """Measured rate (1 / mean regular step) and jitter (standard deviation of the regular steps)."""
     tv = time_valid(ctx, stream)
-    steps = regular_steps(stream.time, tv, ctx.resolution.protocol.audit.gap_tolerance)
+    steps = regular_steps(
+        stream.time, tv, ctx.resolution.protocol.audit.gap_tolerance, 1 / stream.expected_rate
+    )
     t_ok = stream.time[tv] if not tv.all() else stream.time
     first = float(t_ok[0]) if t_ok.size else None
     last = float(t_ok[-1]) if t_ok.size else None

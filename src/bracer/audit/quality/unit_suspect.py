@@ -8,8 +8,8 @@ Signs looked for (thresholds: common practice, no source):
 * a position declared in deg that, without a velocity channel to compare, spans less than 5 % of the joint's
   declared range while its values would span a plausible range if they were radians (warning; locked joints
   are not judged);
-* a velocity that is not the rate of change of its position: least-squares ratio outside [0.67, 1.5] (named
-  when it is close to 180/π, 1000 or 60), or of the opposite sign;
+* a velocity that is not the rate of change of its position: the median ratio of the two while the joint
+  moves is outside [0.67, 1.5] (named when it is close to 180/π, 1000 or 60), or negative;
 * a torque or force whose 10th-largest magnitude exceeds 50× the largest limit the protocol declares for it
   (mN or N*mm declared as N or N*m, raw sensor counts ...).
 
@@ -251,8 +251,7 @@ def _velocity(
     moving = both & (np.abs(rate) > threshold)
     if moving.sum() < MIN_MOVING:
         return []
-    d, w = rate[moving], v[moving]
-    ratio = float(np.dot(w, d) / np.dot(d, d))
+    ratio = float(np.median(v[moving] / rate[moving]))  # the median: robust to a few bad windows
     lo, hi = RATIO_BOUNDS
     if lo <= ratio <= hi:
         return []
