@@ -11,7 +11,7 @@ import typer
 from bracer.cli import app
 
 
-@app.command()
+@app.command(short_help="Review a protocol before a trial (checks R101-R107).")
 def review(
     # typer declares arguments and options as default values; B008 does not apply to them.
     protocol: Path = typer.Argument(..., help="Protocol file (YAML)."),  # noqa: B008
