@@ -8,7 +8,7 @@ from hypothesis import given, settings
 from hypothesis import strategies as st
 from hypothesis.extra.numpy import arrays
 
-from bracer.audit.events import Event, find_events, first_sustained, latch, runs
+from bracer.audit.events import Event, find_events, first_sustained, hold_last, overlapping, runs
 
 T10 = np.arange(10) / 10.0
 
@@ -28,10 +28,11 @@ def test_runs(mask: list[int], starts: list[int], ends: list[int]) -> None:
     assert s.tolist() == starts and e.tolist() == ends
 
 
-def test_latch_holds_between_on_and_off() -> None:
-    on = np.array([0, 1, 0, 0, 0, 1, 0], dtype=bool)
-    off = np.array([1, 0, 0, 1, 0, 0, 0], dtype=bool)
-    assert latch(on, off).tolist() == [False, True, True, False, False, True, True]
+def test_hold_last_carries_known_values_over_unknown_runs() -> None:
+    values = np.array([1, 1, 0, 0, 1, 0, 0, 1], dtype=bool)
+    known = np.array([0, 1, 0, 1, 1, 0, 0, 1], dtype=bool)
+    assert hold_last(values, known).tolist() == [False, True, True, False, True, True, True, True]
+    assert hold_last(values, np.ones(8, bool)).tolist() == values.tolist()
 
 
 def test_event_fields() -> None:
@@ -122,3 +123,52 @@ def test_events_are_ordered_disjoint_valid_and_cover_every_sample_over(x, limit,
     assert not (over & ~covered).any()  # no minimum duration: every sample over is in an event
     inside = x <= limit - band
     assert not (covered & inside).any()  # an event ends once the value is back by the band
+
+
+def _oracle(x: np.ndarray, valid: np.ndarray, limit: float, band: float) -> list[tuple[int, int]]:
+    """Sample-by-sample reference of the hysteresis rule (a plain loop, as a person would apply it)."""
+    out: list[tuple[int, int]] = []
+    start = None
+    for i, (v, ok) in enumerate(zip(x.tolist(), valid.tolist(), strict=True)):
+        if start is None:
+            if ok and v > limit:
+                start = i
+        elif not ok or v <= limit - band:
+            out.append((start, i - 1))
+            start = None
+    if start is not None:
+        out.append((start, len(x) - 1))
+    return out
+
+
+@settings(max_examples=300, deadline=None)
+@given(
+    x=arrays(np.float64, st.integers(1, 80), elements=st.floats(-10, 10, allow_nan=False)),
+    limit=st.floats(-5, 5),
+    band=st.floats(0, 3),
+    data=st.data(),
+)
+def test_events_match_a_sample_by_sample_reference(x, limit, band, data) -> None:  # type: ignore[no-untyped-def]
+    valid = data.draw(arrays(np.bool_, x.shape[0]))
+    t = np.arange(x.shape[0]) * 0.01
+    got = [(e.i_start, e.i_end) for e in find_events(t, x, valid, limit, band=band)]
+    assert got == _oracle(x, valid, limit, band)
+    below = [(e.i_start, e.i_end) for e in find_events(t, -x, valid, -limit, side="below", band=band)]
+    assert below == got
+
+
+@settings(max_examples=200, deadline=None)
+@given(a=st.lists(st.tuples(st.integers(0, 50), st.integers(0, 5)), max_size=8),
+       b=st.lists(st.tuples(st.integers(0, 50), st.integers(0, 5)), max_size=8))
+def test_overlapping_matches_pairwise_comparison(a, b) -> None:  # type: ignore[no-untyped-def]
+    def events(spec: list[tuple[int, int]]) -> tuple[Event, ...]:
+        out, last = [], -1
+        for s, length in sorted(spec):
+            if s <= last:
+                continue
+            out.append(Event(s, s + length, s, 0.0, 0.0, 0.0, 0.0))
+            last = s + length
+        return tuple(out)
+
+    ea, eb = events(a), events(b)
+    assert overlapping(ea, eb) == [any(e.overlaps(o) for o in eb) for e in ea]

@@ -91,11 +91,24 @@ class Derivative:
         )
 
 
+#: Above this many samples the median step is taken over this many evenly spread steps (a faithful estimate of
+#: the median at a fraction of the cost of sorting an hour of 1 kHz steps).
+_MEDIAN_STEPS = 200_000
+
+
 def sample_period(t: np.ndarray) -> float:
-    """The median step of a time vector, s (NaN when there are fewer than two samples or no positive step)."""
-    if t.shape[0] < 2:
+    """The median positive step of a time vector, s (NaN with fewer than two samples or no positive step).
+
+    For long logs the median is taken over ``_MEDIAN_STEPS`` evenly spread steps.
+    """
+    n = t.shape[0]
+    if n < 2:
         return float("nan")
-    steps = np.diff(t)
+    if n - 1 > _MEDIAN_STEPS:
+        at = np.linspace(0, n - 2, _MEDIAN_STEPS).astype(np.int64)
+        steps = t[at + 1] - t[at]
+    else:
+        steps = np.diff(t)
     steps = steps[steps > 0]
     if steps.shape[0] == 0:
         return float("nan")
@@ -168,16 +181,22 @@ def savgol_derivative(
     src = x if all_valid else np.where(valid, x, 0.0)
     d = savgol_filter(src, w, polyorder, deriv=deriv, delta=dt, mode="interp")
 
-    # Window of sample i: [lo, lo + w), centred except within w // 2 of either end.
-    lo = np.arange(n, dtype=np.int64)
-    lo -= w // 2
-    np.clip(lo, 0, n - w, out=lo)
-    span = t[lo + (w - 1)] - t[lo]
+    # Windows [lo, lo + w) for lo = 0 .. n - w; sample i uses lo = clip(i - w // 2, 0, n - w): centred except
+    # within w // 2 of either end, where the first / last window is used.
     nominal = (w - 1) * dt
-    ok = np.abs(span - nominal) <= _SPAN_TOLERANCE * nominal
+    span = t[w - 1 :] - t[: n - w + 1]
+    span -= nominal
+    np.abs(span, out=span)
+    good = span <= _SPAN_TOLERANCE * nominal
     if not all_valid:
         bad = np.zeros(n + 1, dtype=np.int64)
         np.cumsum(~valid, out=bad[1:])
-        ok &= (bad[lo + w] - bad[lo]) == 0
-    d[~ok] = np.nan
+        good &= bad[w:] == bad[: n - w + 1]
+    h = w // 2
+    ok = np.empty(n, dtype=bool)
+    ok[h : n - h] = good
+    ok[:h] = good[0]
+    ok[n - h :] = good[-1]
+    if not ok.all():
+        d[~ok] = np.nan
     return Derivative(t, d, ok, deriv, polyorder, w, dt)

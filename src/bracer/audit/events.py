@@ -21,7 +21,7 @@ from typing import Literal
 
 import numpy as np
 
-__all__ = ["Event", "find_events", "first_sustained", "latch", "runs"]
+__all__ = ["Event", "find_events", "first_sustained", "hold_last", "overlapping", "runs"]
 
 #: Slack for comparing durations built from float timestamps (hour-long logs: |t| ~ 3.6e3 s, ulp ~ 5e-13 s).
 _TIME_EPS = 1e-9
@@ -84,27 +84,29 @@ def runs(mask: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
     return starts, ends
 
 
-def latch(on: np.ndarray, off: np.ndarray) -> np.ndarray:
-    """A latch: True from a sample in ``on`` until the next sample in ``off`` (neither: keep the last state).
+def hold_last(values: np.ndarray, known: np.ndarray) -> np.ndarray:
+    """Carry the last known value of a boolean series across unknown samples (False before the first known).
 
     Parameters
     ----------
-    on, off : ndarray of bool, shape (n,)
-        Samples that set and reset the latch (``on`` wins where both are True).
+    values : ndarray of bool, shape (n,)
+        Meaningful where ``known``.
+    known : ndarray of bool, shape (n,)
 
     Returns
     -------
     ndarray of bool, shape (n,)
+        ``values`` where known; elsewhere the value of the last known sample before the run of unknowns.
 
-    Vectorised: the index of the last sample that decided the state is carried forward with
-    ``np.maximum.accumulate``; before the first deciding sample the state is False.
+    Vectorised on run boundaries: each run of unknown samples takes the value just before it.
     """
-    n = on.shape[0]
-    idx = np.where(on | off, np.arange(n, dtype=np.int64), -1)
-    np.maximum.accumulate(idx, out=idx)
-    state = on[np.maximum(idx, 0)]
-    state &= idx >= 0
-    return state
+    out = values & known
+    if known.all():
+        return out
+    starts, ends = runs(~known)
+    before = out[np.maximum(starts - 1, 0)] & (starts > 0)
+    out[~known] = np.repeat(before, ends - starts + 1)
+    return out
 
 
 def find_events(
@@ -153,13 +155,19 @@ def find_events(
     if not over.any():
         return ()
     if band > 0:
+        # With hysteresis an event starts at a sample over the limit and lasts to the end of the run of valid
+        # samples beyond the release level that holds it (every sample over the limit is beyond the release).
         release = limit - band if above else limit + band
-        inside = np.less_equal(x, release) if above else np.greater_equal(x, release)
-        inside |= ~valid
-        on = latch(over, inside)
+        beyond = np.greater(x, release) if above else np.less(x, release)
+        beyond &= valid
+        run_start, run_end = runs(beyond)
+        over_at, _ = runs(over)  # the first over sample of a run beyond the release starts an over-run
+        j = np.searchsorted(over_at, run_start)
+        has = j < over_at.shape[0]
+        has[has] = over_at[j[has]] <= run_end[has]
+        starts, ends = over_at[j[has]], run_end[has]
     else:
-        on = over
-    starts, ends = runs(on)
+        starts, ends = runs(over)
     keep = (t[ends] - t[starts]) >= (min_duration - _TIME_EPS)
     starts, ends = starts[keep], ends[keep]
     events = []
@@ -168,6 +176,23 @@ def find_events(
         k = s + int(pick(x[s : e + 1]))
         events.append(Event(s, e, k, float(t[s]), float(t[e]), float(t[k]), float(x[k])))
     return tuple(events)
+
+
+def overlapping(events: tuple[Event, ...], others: tuple[Event, ...]) -> list[bool]:
+    """For each of ``events``, whether it shares a sample with one of ``others`` (both ordered, disjoint).
+
+    O((m + k) log k) with a binary search on the others' ends, not a comparison of every pair.
+    """
+    if not others or not events:
+        return [False] * len(events)
+    o_start = np.fromiter((o.i_start for o in others), dtype=np.int64, count=len(others))
+    o_end = np.fromiter((o.i_end for o in others), dtype=np.int64, count=len(others))
+    e_start = np.fromiter((e.i_start for e in events), dtype=np.int64, count=len(events))
+    e_end = np.fromiter((e.i_end for e in events), dtype=np.int64, count=len(events))
+    k = np.searchsorted(o_end, e_start, side="left")  # first other ending at or after the event's start
+    hit = k < o_end.shape[0]
+    hit[hit] = o_start[k[hit]] <= e_end[hit]
+    return hit.tolist()  # type: ignore[no-any-return]
 
 
 def first_sustained(

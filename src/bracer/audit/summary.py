@@ -24,6 +24,7 @@ from bracer.audit.checks._contact import contact_force
 from bracer.audit.checks._joint import angle_unit, joint_signal, joint_stream, motion
 from bracer.audit.checks._stopping import stop_analysis
 from bracer.audit.context import AuditContext
+from bracer.audit.derive import sample_period
 
 __all__ = ["ContactFigures", "JointFigures", "SessionSummary", "summarise"]
 
@@ -74,17 +75,18 @@ class SessionSummary:
         return d
 
 
-def _step_weights(t: np.ndarray) -> np.ndarray:
-    """Time each sample stands for: the step to the next sample (the last takes the median step), s."""
-    steps = np.empty_like(t)
+def _time_where(t: np.ndarray, mask: np.ndarray) -> float:
+    """Time covered by the samples in ``mask``: each counts the step to the next sample (the last sample the
+    median step), s; steps that go back in time count nothing."""
     if t.shape[0] < 2:
-        steps[:] = 0.0
-        return steps
-    np.subtract(t[1:], t[:-1], out=steps[:-1])
-    pos = steps[:-1][steps[:-1] > 0]
-    steps[-1] = float(np.median(pos)) if pos.size else 0.0
+        return 0.0
+    steps = np.diff(t)
     np.maximum(steps, 0.0, out=steps)
-    return steps
+    total = float(np.sum(steps, where=mask[:-1]))
+    if mask[-1]:
+        dt = sample_period(t)
+        total += dt if np.isfinite(dt) else 0.0
+    return total
 
 
 def _activity(ctx: AuditContext) -> tuple[float | None, float | None, str]:
@@ -97,11 +99,10 @@ def _activity(ctx: AuditContext) -> tuple[float | None, float | None, str]:
     mot = motion(ctx, stream, p.stop.standstill.speed.si)
     if isinstance(mot, Unavailable):
         return None, None, mot.reason
-    w = _step_weights(mot.t)
     tv = ctx.session.time_valid.get(stream)
     known = mot.known if tv is None else (mot.known & tv)
-    active = float(np.sum(w, where=mot.moving & known))
-    unknown = float(np.sum(w, where=~known))
+    active = _time_where(mot.t, mot.moving & known)
+    unknown = _time_where(mot.t, ~known)
     note = f"any joint faster than {p.stop.standstill.speed} on stream '{stream}'"
     if mot.missing:
         note += "; without " + ", ".join(j for j, _ in mot.missing) + " (speed not available)"

@@ -105,6 +105,8 @@ def extremes(ctx: AuditContext, key: tuple[Any, ...], x: np.ndarray, valid: np.n
     """Extremes of ``x`` over valid samples, cached under ``key``: a check skips a limit no sample reaches."""
 
     def build() -> Extremes:
+        if x.shape[0] and valid.all():  # the common case: a plain reduction is about 3x faster than `where=`
+            return Extremes(float(x.max()), float(x.min()))
         hi = float(np.max(x, where=valid, initial=-np.inf))
         lo = float(np.min(x, where=valid, initial=np.inf))
         return Extremes(hi, lo)

@@ -31,7 +31,7 @@ from bracer.audit.checks._common import (
     span_text,
 )
 from bracer.audit.context import AuditContext
-from bracer.audit.events import Event, find_events
+from bracer.audit.events import Event, find_events, overlapping
 from bracer.findings import Check, Finding, Kind, Severity
 from bracer.protocol.model import Contact
 from bracer.units import Quantity
@@ -82,10 +82,13 @@ def _build(ctx: AuditContext, name: str) -> ContactForce | Unavailable:
         valid = sigs[0].valid
     else:
         f = np.square(sigs[0].x)
+        square = np.empty_like(f)  # one scratch buffer for the other axes
         valid = sigs[0].valid.copy()
         for s in sigs[1:]:
-            f += np.square(s.x)
+            np.square(s.x, out=square)
+            f += square
             valid &= s.valid
+        del square
         np.sqrt(f, out=f)
     if not valid.any():
         return Unavailable(", ".join(cols), f"no sample where all of {', '.join(cols)} are valid")
@@ -176,7 +179,7 @@ def near_events(ctx: AuditContext, lim: ContactLimit, cf: ContactForce, width: f
         min_duration=ctx.resolution.protocol.audit.min_event_duration.si,
     )
     over = limit_events(ctx, lim, cf)
-    return tuple(e for e in events if not any(e.overlaps(o) for o in over))
+    return tuple(e for e, hit in zip(events, overlapping(events, over), strict=True) if not hit)
 
 
 def contact_violations(

@@ -218,11 +218,15 @@ def motion(ctx: AuditContext, stream: str, threshold: float) -> Motion | Unavail
             joints.append(name)
             if sp.derivation is not None:
                 derived.append((name, sp.derivation))
-            fast = np.abs(sp.x) > threshold
-            fast &= sp.valid
+            fast = np.greater(sp.x, threshold)
+            fast |= np.less(sp.x, -threshold)  # NaN compares False: an invalid sample is never "fast"
+            all_valid = bool(sp.valid.all())
+            if not all_valid:
+                fast &= sp.valid
             if sp.t is t or (sp.t.shape == t.shape and np.array_equal(sp.t, t)):
                 moving |= fast
-                known &= sp.valid
+                if not all_valid:
+                    known &= sp.valid
             else:
                 m, _ = _on_clock(sp.t, fast, t)
                 v, _ = _on_clock(sp.t, sp.valid, t)

@@ -34,7 +34,7 @@ from bracer.audit.checks._common import (
 )
 from bracer.audit.checks._joint import JointQuantity, JointSignal, joint_signal
 from bracer.audit.context import AuditContext
-from bracer.audit.events import Event, find_events
+from bracer.audit.events import Event, find_events, overlapping
 from bracer.findings import Check, Finding, Kind, Severity
 from bracer.protocol.model import Joint, Margin
 from bracer.protocol.resolve import participant_range
@@ -264,7 +264,7 @@ def near_events(ctx: AuditContext, spec: LimitSpec, sig: JointSignal, width: flo
         min_duration=audit.min_event_duration.si,
     )
     over = exceedances(ctx, spec, sig)
-    return tuple(e for e in events if not any(e.overlaps(o) for o in over))
+    return tuple(e for e, hit in zip(events, overlapping(events, over), strict=True) if not hit)
 
 
 # ----------------------------------------------------------------------------------------- findings

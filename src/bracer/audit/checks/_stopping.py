@@ -36,7 +36,7 @@ from bracer.audit.checks._joint import Motion, joint_signal, joint_stream, motio
 from bracer.audit.checks._limits import exceedances, limit_specs
 from bracer.audit.context import AuditContext
 from bracer.audit.derive import sample_period
-from bracer.audit.events import first_sustained, latch, runs
+from bracer.audit.events import first_sustained, hold_last, runs
 from bracer.protocol.model import TriggerChannel
 
 __all__ = ["Episode", "JointStop", "StopAnalysis", "Trigger", "stop_analysis", "trigger_active"]
@@ -151,7 +151,7 @@ def trigger_active(states: np.ndarray, rule: TriggerChannel, time_valid: np.ndar
     active = hit if rule.active is not None else ~hit
     if time_valid is not None:
         known &= time_valid
-    return latch(active & known, ~active & known)
+    return hold_last(active, known)
 
 
 def _explicit_triggers(

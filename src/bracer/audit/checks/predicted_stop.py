@@ -21,6 +21,7 @@ import numpy as np
 
 from bracer.audit.checks._common import (
     Unavailable,
+    extremes,
     finding,
     fmt,
     fmt_t,
@@ -85,11 +86,12 @@ def run(ctx: AuditContext) -> list[Finding]:
             continue
         t_r = p.stop.reaction_time.si
         a = joint.stop_deceleration.si
-        v, v_valid = _aligned(speed, pos)
-        v_max = float(np.max(np.abs(v), where=v_valid, initial=0.0))
+        # quick bound: the farthest any sample could reach, from the channels' extremes
+        vx = extremes(ctx, (name, "speed"), speed.x, speed.valid)
+        v_max = max(abs(vx.max), abs(vx.min)) if np.isfinite(vx.max) else 0.0
         reach = v_max * t_r + v_max * v_max / (2 * a)
-        p_hi = float(np.max(pos.x, where=pos.valid, initial=-np.inf))
-        p_lo = float(np.min(pos.x, where=pos.valid, initial=np.inf))
+        px = extremes(ctx, (name, "position"), pos.x, pos.valid)
+        p_hi, p_lo = px.max, px.min
         todo = [
             s
             for s in specs
@@ -98,6 +100,7 @@ def run(ctx: AuditContext) -> list[Finding]:
         ]
         if not todo:
             continue
+        v, v_valid = _aligned(speed, pos)
         both = pos.valid & v_valid
         stop_at = v * t_r
         stop_at += v * np.abs(v) / (2 * a)
