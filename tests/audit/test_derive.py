@@ -1,4 +1,4 @@
-"""Savitzky–Golay derivative: checked against published coefficients, scipy, polynomials and a min-jerk movement."""
+"""Savitzky–Golay derivative against published coefficients, scipy, polynomials and a min-jerk movement."""
 
 from __future__ import annotations
 
@@ -72,8 +72,10 @@ def test_centred_window_has_no_delay_on_a_ramp() -> None:
     assert crossing == pytest.approx(0.5, abs=1e-3)
 
 
-@pytest.mark.parametrize(("window", "dt", "expected"), [(0.021, 1e-3, 21), (0.020, 1e-3, 21), (0.0, 1e-3, 3),
-                                                        (0.021, 2e-3, 11), (0.05, 0.01, 5)])
+@pytest.mark.parametrize(
+    ("window", "dt", "expected"),
+    [(0.021, 1e-3, 21), (0.020, 1e-3, 21), (0.0, 1e-3, 3), (0.021, 2e-3, 11), (0.05, 0.01, 5)],
+)
 def test_window_length_is_odd_and_nearest(window: float, dt: float, expected: int) -> None:
     assert window_length(window, dt) == expected
 

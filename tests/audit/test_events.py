@@ -158,8 +158,10 @@ def test_events_match_a_sample_by_sample_reference(x, limit, band, data) -> None
 
 
 @settings(max_examples=200, deadline=None)
-@given(a=st.lists(st.tuples(st.integers(0, 50), st.integers(0, 5)), max_size=8),
-       b=st.lists(st.tuples(st.integers(0, 50), st.integers(0, 5)), max_size=8))
+@given(
+    a=st.lists(st.tuples(st.integers(0, 50), st.integers(0, 5)), max_size=8),
+    b=st.lists(st.tuples(st.integers(0, 50), st.integers(0, 5)), max_size=8),
+)
 def test_overlapping_matches_pairwise_comparison(a, b) -> None:  # type: ignore[no-untyped-def]
     def events(spec: list[tuple[int, int]]) -> tuple[Event, ...]:
         out, last = [], -1

@@ -160,7 +160,7 @@ def plateau(t: np.ndarray, base: float, top: float, t0: float, t1: float) -> np.
 
 
 def keys(findings: Iterable[Finding]) -> set[tuple[Any, ...]]:
-    """The identity of each finding, for exact-set assertions: (code, kind, subject, quantity, layer, direction)."""
+    """Identity of each finding for exact-set checks: (code, kind, subject, quantity, layer, direction)."""
     return {(f.code, f.kind.value, f.subject, f.quantity, f.layer, f.direction) for f in findings}
 
 

@@ -14,8 +14,9 @@ DT = 1e-3
 
 def cuff_stream(t: np.ndarray, fx: np.ndarray, fy: np.ndarray | None = None, fz: np.ndarray | None = None):  # type: ignore[no-untyped-def]
     zeros = np.zeros(t.size)
-    return stream(t, still_joint(t) | {"fx": fx, "fy": zeros if fy is None else fy,
-                                       "fz": zeros if fz is None else fz})
+    return stream(
+        t, still_joint(t) | {"fx": fx, "fy": zeros if fy is None else fy, "fz": zeros if fz is None else fz}
+    )
 
 
 def run_force(t: np.ndarray, fx: np.ndarray, proto=None, **axes: np.ndarray):  # type: ignore[no-untyped-def]
@@ -35,7 +36,11 @@ def test_vector_magnitude_of_three_axes() -> None:
 @pytest.mark.parametrize(
     ("level", "seconds", "expected"),
     [
-        (70.0, 0.2, set()),  # above quasi-static for <= 500 ms, within transient: an allowed transient contact
+        (
+            70.0,
+            0.2,
+            set(),
+        ),  # above quasi-static for <= 500 ms, within transient: an allowed transient contact
         (70.0, 0.5, set()),  # exactly the allowed 500 ms
         (70.0, 0.8, {"quasi_static"}),  # too long for a transient contact
         (100.0, 0.1, {"transient"}),  # short but above the transient limit
@@ -77,12 +82,20 @@ def test_missing_force_column_is_not_assessable() -> None:
 
 
 def test_force_on_its_own_stream_and_clock() -> None:
-    proto = protocol({"logging": {"streams": {"cuffs": {"time": {"column": "tc"}, "sample_rate": "500 Hz"}}},
-                      "contacts": {"cuff": {"channels": {"force": {"stream": "cuffs"}}}}})
+    proto = protocol(
+        {
+            "logging": {"streams": {"cuffs": {"time": {"column": "tc"}, "sample_rate": "500 Hz"}}},
+            "contacts": {"cuff": {"channels": {"force": {"stream": "cuffs"}}}},
+        }
+    )
     t = clock(1.0)
     tc = clock(2.0, 500.0)
-    cuffs = stream(tc, {"fx": plateau(tc, 5.0, 95.0, 1.0, 1.1), "fy": np.zeros(tc.size), "fz": np.zeros(tc.size)},
-                   name="cuffs", rate=500.0)
+    cuffs = stream(
+        tc,
+        {"fx": plateau(tc, 5.0, 95.0, 1.0, 1.1), "fy": np.zeros(tc.size), "fz": np.zeros(tc.size)},
+        name="cuffs",
+        rate=500.0,
+    )
     f = only(force.run(context(proto, stream(t, still_joint(t)), cuffs)))
     assert f.layer == "transient" and (f.i_start, f.i_end) == (500, 550)
     assert f.t_start == pytest.approx(1.0, abs=2e-3)

@@ -4,7 +4,19 @@ from __future__ import annotations
 
 import numpy as np
 import pytest
-from checkkit import DELETE, clock, context, deg, keys, only, plateau, protocol, quiet_cuff, still_joint, stream
+from checkkit import (
+    DELETE,
+    clock,
+    context,
+    deg,
+    keys,
+    only,
+    plateau,
+    protocol,
+    quiet_cuff,
+    still_joint,
+    stream,
+)
 
 from bracer.audit.checks import acceleration, torque
 from bracer.audit.checks import speed as speed_check
@@ -72,8 +84,18 @@ def test_speed_without_velocity_or_position_is_not_assessable() -> None:
 
 
 def test_per_direction_speed_limits() -> None:
-    proto = protocol({"joints": {"elbow": {"speed": {"planned": {"positive": "60 deg/s", "negative": "30 deg/s"},
-                                                     "device": "90 deg/s"}}}})
+    proto = protocol(
+        {
+            "joints": {
+                "elbow": {
+                    "speed": {
+                        "planned": {"positive": "60 deg/s", "negative": "30 deg/s"},
+                        "device": "90 deg/s",
+                    }
+                }
+            }
+        }
+    )
     t = clock(2.0)
     vel = plateau(t, 0.0, 45.0, 0.2, 0.4) - plateau(t, 0.0, 45.0, 1.2, 1.4)
     f = only(speed_check.run(context(proto, stream(t, channels(t, elb_vel=deg(vel))))))

@@ -34,8 +34,13 @@ def test_locked_joint_moving_beyond_its_tolerance() -> None:
     t = clock(2.0)
     wr = 10.0 + plateau(t, 0.0, -3.0, 0.5, 0.9)  # 3 deg from where it started, tolerance 2 deg
     f = only(locked.run(wrist_ctx(wr, t)))
-    assert (f.code, f.kind, f.subject, f.quantity, f.direction) == ("A301", Kind.VIOLATION, "wrist",
-                                                                     "locked_motion", "negative")
+    assert (f.code, f.kind, f.subject, f.quantity, f.direction) == (
+        "A301",
+        Kind.VIOLATION,
+        "wrist",
+        "locked_motion",
+        "negative",
+    )
     assert (f.peak, f.limit, f.unit, f.severity) == (pytest.approx(3.0), 2.0, "deg", Severity.ERROR)
     assert f.t_start == pytest.approx(0.5, abs=DT) and f.t_end == pytest.approx(0.9, abs=DT)
     assert dict(f.extra)["reference_position"] == pytest.approx(10.0)
@@ -54,10 +59,15 @@ def test_locked_joint_within_tolerance_and_measured_from_the_first_valid_sample(
 def test_participant_list_replaces_the_protocols() -> None:
     t = clock(2.0)
     wr = 10.0 + plateau(t, 0.0, 5.0, 0.5, 0.9)
-    assert locked.run(wrist_ctx(wr, t, {"participants": {"AV-T1": {"locked_joints": []}}},
-                                participant="AV-T1")) == []
-    f = only(locked.run(wrist_ctx(wr, t, {"participants": {"AV-T1": {"locked_joints": ["elbow"]}}},
-                                  participant="AV-T1")))
+    assert (
+        locked.run(wrist_ctx(wr, t, {"participants": {"AV-T1": {"locked_joints": []}}}, participant="AV-T1"))
+        == []
+    )
+    f = only(
+        locked.run(
+            wrist_ctx(wr, t, {"participants": {"AV-T1": {"locked_joints": ["elbow"]}}}, participant="AV-T1")
+        )
+    )
     assert (f.kind, f.subject) == (Kind.NOT_ASSESSABLE, "elbow") and "no tolerance" in f.message
 
 
@@ -70,8 +80,13 @@ def test_locked_joint_without_position_is_not_assessable() -> None:
 
 # ---------------------------------------------------------------------------------------------- protections
 
-PROTECT = {"logging": {"protections": {"soft_limits": {"column": "soft_on", "allowed": [1],
-                                                       "description": "software limits enabled"}}}}
+PROTECT = {
+    "logging": {
+        "protections": {
+            "soft_limits": {"column": "soft_on", "allowed": [1], "description": "software limits enabled"}
+        }
+    }
+}
 
 
 def moving_ctx(t: np.ndarray, soft: np.ndarray, vel_deg: np.ndarray | None = None):  # type: ignore[no-untyped-def]
@@ -86,8 +101,13 @@ def test_protection_off_while_moving() -> None:
     vel = plateau(t, 0.0, 20.0, 1.0, 2.0)  # moving 1.0–2.0 s (standstill speed 2 deg/s)
     soft = plateau(t, 1.0, 0.0, 1.5, 2.5)  # software limits off 1.5–2.5 s
     f = only(protections.run(moving_ctx(t, soft, vel)))
-    assert (f.code, f.kind, f.subject, f.quantity, f.channel) == ("A302", Kind.VIOLATION, "soft_limits",
-                                                                   "protection", "soft_on")
+    assert (f.code, f.kind, f.subject, f.quantity, f.channel) == (
+        "A302",
+        Kind.VIOLATION,
+        "soft_limits",
+        "protection",
+        "soft_on",
+    )
     assert f.t_start == pytest.approx(1.5, abs=DT) and f.t_end == pytest.approx(2.0, abs=DT)
     assert dict(f.extra)["values_seen"] == ("0",) and "'0'" in f.message
 
@@ -121,8 +141,15 @@ def test_missing_protection_column_is_not_assessable() -> None:
 
 
 def test_protection_on_another_stream_uses_motion_mapped_onto_its_clock() -> None:
-    proto = protocol(PROTECT, {"logging": {"streams": {"status": {"time": {"column": "ts"}, "sample_rate": "10 Hz"}},
-                                           "protections": {"soft_limits": {"stream": "status"}}}})
+    proto = protocol(
+        PROTECT,
+        {
+            "logging": {
+                "streams": {"status": {"time": {"column": "ts"}, "sample_rate": "10 Hz"}},
+                "protections": {"soft_limits": {"stream": "status"}},
+            }
+        },
+    )
     t = clock(3.0)
     ts = clock(3.0, 10.0)
     ch = still_joint(t) | quiet_cuff(t)

@@ -4,15 +4,33 @@ from __future__ import annotations
 
 import numpy as np
 import pytest
-from checkkit import DELETE, clock, context, deg, keys, only, plateau, protocol, quiet_cuff, still_joint, stream
+from checkkit import (
+    DELETE,
+    clock,
+    context,
+    deg,
+    keys,
+    only,
+    plateau,
+    protocol,
+    quiet_cuff,
+    still_joint,
+    stream,
+)
 
 from bracer.audit.checks import near_miss, predicted_stop
 from bracer.findings import Kind, Severity
 
 DT = 1e-3
-MARGINS = {"near_miss": {"position": {"absolute": "3 deg"}, "speed": {"fraction": 0.1},
-                         "torque": {"fraction": 0.1}, "force": {"fraction": 0.1, "absolute": "5 N"},
-                         "pressure": {"fraction": 0.1}}}
+MARGINS = {
+    "near_miss": {
+        "position": {"absolute": "3 deg"},
+        "speed": {"fraction": 0.1},
+        "torque": {"fraction": 0.1},
+        "force": {"fraction": 0.1, "absolute": "5 N"},
+        "pressure": {"fraction": 0.1},
+    }
+}
 
 
 def ctx_with(t: np.ndarray, proto=None, participant=None, **ch: np.ndarray):  # type: ignore[no-untyped-def]
@@ -24,8 +42,13 @@ def ctx_with(t: np.ndarray, proto=None, participant=None, **ch: np.ndarray):  # 
 def test_position_within_the_absolute_band_of_the_planned_limit() -> None:
     t = clock(2.0)
     f = only(near_miss.run(ctx_with(t, elb_pos=deg(plateau(t, 50.0, 98.0, 0.5, 0.8)))))
-    assert (f.code, f.kind, f.layer, f.direction, f.quantity) == ("A121", Kind.NEAR_MISS, "planned", "positive",
-                                                                   "position")
+    assert (f.code, f.kind, f.layer, f.direction, f.quantity) == (
+        "A121",
+        Kind.NEAR_MISS,
+        "planned",
+        "positive",
+        "position",
+    )
     assert f.severity is Severity.INFO  # planned layer
     assert f.peak == pytest.approx(98.0) and f.limit == 100.0 and f.margin == pytest.approx(2.0)
     assert f.t_start == pytest.approx(0.5, abs=DT) and f.t_end == pytest.approx(0.8, abs=DT)
@@ -34,7 +57,7 @@ def test_position_within_the_absolute_band_of_the_planned_limit() -> None:
 
 def test_exceeding_the_limit_is_a_violation_not_a_near_miss() -> None:
     t = clock(2.0)
-    # 105 deg: beyond planned (no near miss of planned); 120 - 105 = 15 deg from device: outside its 3 deg band
+    # 105 deg: beyond planned (no near miss of it); 15 deg from the device limit: outside its 3 deg band
     assert near_miss.run(ctx_with(t, elb_pos=deg(plateau(t, 50.0, 105.0, 0.5, 0.8)))) == []
 
 
@@ -56,7 +79,12 @@ def test_speed_fraction_band() -> None:
     t = clock(2.0)
     vel = deg(plateau(t, 0.0, 85.0, 1.0, 1.1))  # device 90: band 9 deg/s; over planned 60 (a violation there)
     f = only(near_miss.run(ctx_with(t, elb_vel=vel)))
-    assert (f.quantity, f.layer, f.peak, f.margin) == ("speed", "device", pytest.approx(85.0), pytest.approx(5.0))
+    assert (f.quantity, f.layer, f.peak, f.margin) == (
+        "speed",
+        "device",
+        pytest.approx(85.0),
+        pytest.approx(5.0),
+    )
 
 
 def test_force_band_is_the_wider_of_fraction_and_absolute() -> None:
@@ -97,8 +125,13 @@ def test_predicted_stop_beyond_the_mechanical_end_stop() -> None:
     vel = np.where(ramp, 100.0, 0.0)
     pos = 100.0 + 100.0 * np.clip(t - 0.5, 0.0, 0.25)
     f = only(predicted_stop.run(ctx_with(t, elb_pos=deg(pos), elb_vel=deg(vel))))
-    assert (f.code, f.kind, f.layer, f.direction, f.severity) == ("A122", Kind.NEAR_MISS, "mechanical",
-                                                                   "positive", Severity.WARNING)
+    assert (f.code, f.kind, f.layer, f.direction, f.severity) == (
+        "A122",
+        Kind.NEAR_MISS,
+        "mechanical",
+        "positive",
+        Severity.WARNING,
+    )
     d = 100 * 0.03 + 100**2 / (2 * 600)
     assert f.t_start == pytest.approx(0.5 + (130 - d - 100) / 100, abs=DT)
     assert f.t_end == pytest.approx(0.749, abs=DT)
@@ -108,9 +141,22 @@ def test_predicted_stop_beyond_the_mechanical_end_stop() -> None:
 
 
 def test_predicted_stop_against_the_participant_range_in_the_negative_direction() -> None:
-    proto = protocol({"participants": {"AV-T1": {"rom": {"elbow": {"min": "20 deg", "max": "125 deg",
-                                                                    "date": "2027-01-02",
-                                                                    "method": "goniometry"}}}}})
+    proto = protocol(
+        {
+            "participants": {
+                "AV-T1": {
+                    "rom": {
+                        "elbow": {
+                            "min": "20 deg",
+                            "max": "125 deg",
+                            "date": "2027-01-02",
+                            "method": "goniometry",
+                        }
+                    }
+                }
+            }
+        }
+    )
     t = clock(2.0)
     # moving at -60 deg/s from 40 deg to 23.2 deg (0.5 s to 0.78 s): stopping distance 60·0.03 + 60²/(2·600)
     # = 1.8 + 3 = 4.8 deg, so the predicted stop passes the measured 20 deg once the joint is below 24.8 deg;
@@ -127,7 +173,10 @@ def test_predicted_stop_needs_a_declared_deceleration() -> None:
     proto = protocol({"joints": {"elbow": {"stop_deceleration": DELETE}}})
     t = clock(1.0)
     f = only(predicted_stop.run(ctx_with(t, proto)))
-    assert (f.kind, f.severity) == (Kind.NOT_ASSESSABLE, Severity.WARNING) and "stop_deceleration" in f.message
+    assert (f.kind, f.severity) == (
+        Kind.NOT_ASSESSABLE,
+        Severity.WARNING,
+    ) and "stop_deceleration" in f.message
 
 
 def test_slow_motion_far_from_the_end_predicts_nothing() -> None:

@@ -27,8 +27,10 @@ PATCH: dict[str, Any] = {
             "motion": "forearm supination–pronation",
             "positive": "supination",
             "negative": "pronation",
-            "range": {"planned": {"min": "-30 deg", "max": "30 deg"},
-                      "mechanical": {"min": "-60 deg", "max": "60 deg"}},
+            "range": {
+                "planned": {"min": "-30 deg", "max": "30 deg"},
+                "mechanical": {"min": "-60 deg", "max": "60 deg"},
+            },
             "speed": {"planned": "45 deg/s"},
             "stop_deceleration": "900 deg/s^2",
             "channels": {"position": {"column": "wr_pos", "unit": "deg"}},
@@ -40,8 +42,11 @@ PATCH: dict[str, Any] = {
         "triggers": {"emergency_stop": {"column": "estop", "active": [1]}},
         "protections": {"soft": {"column": "soft_on", "allowed": [1], "description": "software limits on"}},
     },
-    "participants": {"AV-P9": {"rom": {"elbow": {"min": "5 deg", "max": "110 deg", "date": "2027-01-02",
-                                                 "method": "goniometry"}}}},
+    "participants": {
+        "AV-P9": {
+            "rom": {"elbow": {"min": "5 deg", "max": "110 deg", "date": "2027-01-02", "method": "goniometry"}}
+        }
+    },
 }
 #: A point inside every range layer and the participant's range, with room for the hysteresis band.
 CENTRE = {"elbow": deg(55.0), "wrist": 0.0}
@@ -73,8 +78,16 @@ def sessions(draw: st.DrawFn) -> dict[str, Any]:
     if draw(st.booleans()):  # hold the force over a level for a while: sustained and quasi-static events
         a = draw(st.integers(0, n - 1))
         d["fx"][a:] = draw(st.floats(30.0, 120.0))
-    nan_at = draw(st.lists(st.tuples(st.sampled_from(["elb_pos", "elb_vel", "elb_tau", "fx", "wr_pos"]),
-                                     st.integers(0, n - 1), st.integers(1, 30)), max_size=3))
+    nan_at = draw(
+        st.lists(
+            st.tuples(
+                st.sampled_from(["elb_pos", "elb_vel", "elb_tau", "fx", "wr_pos"]),
+                st.integers(0, n - 1),
+                st.integers(1, 30),
+            ),
+            max_size=3,
+        )
+    )
     for col, start, length in nan_at:
         d[col] = d[col].copy()
         d[col][start : start + length] = np.nan
@@ -105,7 +118,10 @@ def _context(d: dict[str, Any], k: float = 1.0) -> AuditContext:
         "fy": k * d["fy"],
         "fz": k * d["fz"],
     }
-    cuff = {"sustained": {"max_duration": d["sustained"]}, "force": {"transient_max_duration": d["transient"]}}
+    cuff = {
+        "sustained": {"max_duration": d["sustained"]},
+        "force": {"transient_max_duration": d["transient"]},
+    }
     patches: list[dict[str, Any]] = [PATCH, {"contacts": {"cuff": cuff}}]
     if d["logged_velocity"]:
         ch["elb_vel"] = k * d["elb_vel"]
@@ -134,8 +150,11 @@ def test_scaling_further_inside_the_limits_never_adds_a_violation(d: dict[str, A
     for f in after:
         assert f.i_start is not None and f.i_end is not None
         assert any(
-            _ident(g) == _ident(f) and g.i_start is not None and g.i_end is not None
-            and g.i_start <= f.i_start and f.i_end <= g.i_end
+            _ident(g) == _ident(f)
+            and g.i_start is not None
+            and g.i_end is not None
+            and g.i_start <= f.i_start
+            and f.i_end <= g.i_end
             for g in before
         ), f"new violation after scaling by {k}: {f.message}"
 

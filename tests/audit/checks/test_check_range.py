@@ -4,7 +4,19 @@ from __future__ import annotations
 
 import numpy as np
 import pytest
-from checkkit import DELETE, clock, context, deg, keys, only, plateau, protocol, quiet_cuff, still_joint, stream
+from checkkit import (
+    DELETE,
+    clock,
+    context,
+    deg,
+    keys,
+    only,
+    plateau,
+    protocol,
+    quiet_cuff,
+    still_joint,
+    stream,
+)
 
 from bracer.audit.checks import range as range_check
 from bracer.findings import Kind, Severity
@@ -23,8 +35,13 @@ def test_planned_exceedance_is_one_warning_with_exact_times_and_declared_unit() 
     t = clock(2.0)
     pos = plateau(t, 50.0, 105.0, 0.5, 0.7)
     f = only(run(pos, t))
-    assert (f.code, f.kind, f.layer, f.direction, f.quantity) == ("A101", Kind.VIOLATION, "planned", "positive",
-                                                                   "position")
+    assert (f.code, f.kind, f.layer, f.direction, f.quantity) == (
+        "A101",
+        Kind.VIOLATION,
+        "planned",
+        "positive",
+        "position",
+    )
     assert f.severity is Severity.WARNING
     assert f.t_start == pytest.approx(0.5, abs=DT) and f.t_end == pytest.approx(0.7, abs=DT)
     assert (f.i_start, f.i_end) == (500, 700)
@@ -53,9 +70,22 @@ def test_inside_every_limit_gives_no_finding() -> None:
 
 
 def test_participant_measured_range_is_a_layer_of_its_own() -> None:
-    proto = protocol({"participants": {"AV-T1": {"rom": {"elbow": {"min": "15 deg", "max": "95 deg",
-                                                                    "date": "2027-01-02",
-                                                                    "method": "goniometry"}}}}})
+    proto = protocol(
+        {
+            "participants": {
+                "AV-T1": {
+                    "rom": {
+                        "elbow": {
+                            "min": "15 deg",
+                            "max": "95 deg",
+                            "date": "2027-01-02",
+                            "method": "goniometry",
+                        }
+                    }
+                }
+            }
+        }
+    )
     t = clock(2.0)
     pos = plateau(t, 50.0, 97.0, 0.5, 0.6)  # inside planned (100), beyond the measured 95
     f = only(run(pos, t, proto, participant="AV-T1"))
@@ -66,10 +96,18 @@ def test_participant_measured_range_is_a_layer_of_its_own() -> None:
 def test_normative_participant_range_is_a_warning() -> None:
     # AAOS elbow flexion 150 deg (Norkin & White appendix, [C2] in REFERENCES.md) when nothing is measured
     proto = protocol(
-        {"joints": {"elbow": {"reference": {"positive": "elbow flexion"},
-                              "range": {"mechanical": {"min": "-10 deg", "max": "160 deg"},
-                                        "device": {"min": "0 deg", "max": "155 deg"},
-                                        "planned": {"min": "10 deg", "max": "152 deg"}}}}},
+        {
+            "joints": {
+                "elbow": {
+                    "reference": {"positive": "elbow flexion"},
+                    "range": {
+                        "mechanical": {"min": "-10 deg", "max": "160 deg"},
+                        "device": {"min": "0 deg", "max": "155 deg"},
+                        "planned": {"min": "10 deg", "max": "152 deg"},
+                    },
+                }
+            }
+        },
         {"participants": {"AV-T2": {}}},
     )
     t = clock(1.0)
@@ -129,7 +167,12 @@ def test_missing_position_column_is_not_assessable_error() -> None:
     ch = still_joint(t) | quiet_cuff(t)
     del ch["elb_pos"]
     f = only(range_check.run(context(protocol(), stream(t, ch))))
-    assert (f.kind, f.severity, f.subject, f.channel) == (Kind.NOT_ASSESSABLE, Severity.ERROR, "elbow", "elb_pos")
+    assert (f.kind, f.severity, f.subject, f.channel) == (
+        Kind.NOT_ASSESSABLE,
+        Severity.ERROR,
+        "elbow",
+        "elb_pos",
+    )
     assert "elb_pos" in f.message and "not in the log" in f.message
 
 

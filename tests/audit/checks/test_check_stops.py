@@ -27,16 +27,25 @@ T_TRIG = 1.0
 # 0.5 ms before v = 0.
 STOP = {
     "joints": {"elbow": {"stop_deceleration": "2 rad/s^2"}},
-    "stop": {"category": 1, "latency_budget": "300 ms", "reaction_time": "50 ms",
-             "standstill": {"speed": "0.001 rad/s", "hold": "50 ms"},
-             "torque_off": {"level": "0.5 N*m", "within": "400 ms"}},
-    "logging": {"triggers": {"emergency_stop": {"column": "estop", "active": [1]},
-                             "protective_stop": {"column": "pstop", "active": [1]}}},
+    "stop": {
+        "category": 1,
+        "latency_budget": "300 ms",
+        "reaction_time": "50 ms",
+        "standstill": {"speed": "0.001 rad/s", "hold": "50 ms"},
+        "torque_off": {"level": "0.5 N*m", "within": "400 ms"},
+    },
+    "logging": {
+        "triggers": {
+            "emergency_stop": {"column": "estop", "active": [1]},
+            "protective_stop": {"column": "pstop", "active": [1]},
+        }
+    },
 }
 
 
-def kinematics(t: np.ndarray, v0: float = V0, a: float = A, t_r: float = T_R, t_trig: float = T_TRIG,
-               p0: float = 0.9) -> tuple[np.ndarray, np.ndarray]:
+def kinematics(
+    t: np.ndarray, v0: float = V0, a: float = A, t_r: float = T_R, t_trig: float = T_TRIG, p0: float = 0.9
+) -> tuple[np.ndarray, np.ndarray]:
     """Constant speed v0, then (from t_trig + t_r) constant deceleration a to rest; closed-form position."""
     tb = t_trig + t_r
     tau = np.clip(t - tb, 0.0, v0 / a)
@@ -55,13 +64,21 @@ def torque_cat1(t: np.ndarray, t_still: float) -> np.ndarray:
 
 
 def torque_cat0(t: np.ndarray) -> np.ndarray:
-    """Power removed 20 ms after the trigger (braking by a mechanical brake that the torque sensor does not see)."""
+    """Power removed 20 ms after the trigger (a brake the torque sensor does not see stops the joint)."""
     return np.where(t < T_TRIG + 0.02, 2.0, 0.0)
 
 
-def build(*patches: dict[str, Any], t: np.ndarray | None = None, pos: np.ndarray | None = None,
-          vel: np.ndarray | None = None, tau: np.ndarray | None = None, estop: np.ndarray | None = None,
-          pstop: np.ndarray | None = None, velocity: bool = True, states: dict[str, np.ndarray] | None = None):  # type: ignore[no-untyped-def]
+def build(
+    *patches: dict[str, Any],
+    t: np.ndarray | None = None,
+    pos: np.ndarray | None = None,
+    vel: np.ndarray | None = None,
+    tau: np.ndarray | None = None,
+    estop: np.ndarray | None = None,
+    pstop: np.ndarray | None = None,
+    velocity: bool = True,
+    states: dict[str, np.ndarray] | None = None,
+):  # type: ignore[no-untyped-def]
     t = clock(2.0) if t is None else t
     p, v = kinematics(t)
     pos = p if pos is None else pos
@@ -70,12 +87,17 @@ def build(*patches: dict[str, Any], t: np.ndarray | None = None, pos: np.ndarray
     ch = {"elb_pos": pos, "elb_tau": tau} | quiet_cuff(t)
     if velocity:
         ch["elb_vel"] = vel
-    st = {"estop": (t >= T_TRIG).astype(float) if estop is None else estop,
-          "pstop": np.zeros(t.size) if pstop is None else pstop}
+    st = {
+        "estop": (t >= T_TRIG).astype(float) if estop is None else estop,
+        "pstop": np.zeros(t.size) if pstop is None else pstop,
+    }
     if states is not None:
         st = states
-    proto = protocol(STOP, *patches) if velocity else protocol(
-        STOP, {"joints": {"elbow": {"channels": {"velocity": DELETE}}}}, *patches)
+    proto = (
+        protocol(STOP, *patches)
+        if velocity
+        else protocol(STOP, {"joints": {"elbow": {"channels": {"velocity": DELETE}}}}, *patches)
+    )
     return context(proto, stream(t, ch, states=st))
 
 
@@ -168,8 +190,11 @@ def test_torque_off_late() -> None:
 def test_stop_category(category: int, profile: str, matches: bool, severity: Severity) -> None:
     t = clock(2.0)
     t_still = T_TRIG + T_R + V0 / A
-    tau = {"cat1": torque_cat1(t, t_still), "cat0": torque_cat0(t),
-           "cat2": np.where(t < T_TRIG + T_R, 2.0, np.where(t < t_still, -5.0, 1.5))}[profile]
+    tau = {
+        "cat1": torque_cat1(t, t_still),
+        "cat0": torque_cat0(t),
+        "cat2": np.where(t < T_TRIG + T_R, 2.0, np.where(t < t_still, -5.0, 1.5)),
+    }[profile]
     f = only(stop_category.run(build({"stop": {"category": category}}, t=t, tau=tau)))
     assert f.kind is (Kind.STOP if matches else Kind.VIOLATION)
     assert f.severity is severity
@@ -190,8 +215,14 @@ def test_stop_category_needs_torque_off_level() -> None:
 def test_missing_torque_channel() -> None:
     t = clock(2.0)
     p, v = kinematics(t)
-    ctx = context(protocol(STOP), stream(t, {"elb_pos": p, "elb_vel": v} | quiet_cuff(t),
-                                         states={"estop": (t >= T_TRIG).astype(float), "pstop": np.zeros(t.size)}))
+    ctx = context(
+        protocol(STOP),
+        stream(
+            t,
+            {"elb_pos": p, "elb_vel": v} | quiet_cuff(t),
+            states={"estop": (t >= T_TRIG).astype(float), "pstop": np.zeros(t.size)},
+        ),
+    )
     off = only(torque_off.run(ctx))
     assert (off.kind, off.severity, off.subject) == (Kind.NOT_ASSESSABLE, Severity.ERROR, "elbow")
     cat = only(stop_category.run(ctx))
@@ -202,8 +233,14 @@ def test_torque_channel_not_mapped_is_a_protocol_gap_warning() -> None:
     t = clock(2.0)
     p, v = kinematics(t)
     proto = protocol(STOP, {"joints": {"elbow": {"channels": {"torque": DELETE}, "torque": DELETE}}})
-    ctx = context(proto, stream(t, {"elb_pos": p, "elb_vel": v} | quiet_cuff(t),
-                                states={"estop": (t >= T_TRIG).astype(float), "pstop": np.zeros(t.size)}))
+    ctx = context(
+        proto,
+        stream(
+            t,
+            {"elb_pos": p, "elb_vel": v} | quiet_cuff(t),
+            states={"estop": (t >= T_TRIG).astype(float), "pstop": np.zeros(t.size)},
+        ),
+    )
     off = only(torque_off.run(ctx))
     assert (off.kind, off.severity, off.channel) == (Kind.NOT_ASSESSABLE, Severity.WARNING, None)
 
@@ -242,7 +279,7 @@ def test_a_trigger_during_a_stop_in_progress_is_folded_into_it() -> None:
 
 
 def test_two_separate_stops() -> None:
-    # stop at 1.0 s, then the joint moves again from 1.6 s and a protective stop at 1.8 s never ends in standstill
+    # stop at 1.0 s; the joint moves again from 1.6 s, and a protective stop at 1.8 s never reaches standstill
     t = clock(2.5)
     p, v = kinematics(t)
     v = np.where(t >= 1.6, 0.3, v)
@@ -260,9 +297,17 @@ def test_safety_state_normal_values_and_text_columns() -> None:
     t = clock(2.0)
     text = np.where(t >= T_TRIG, "FAULT", "OK")
     ctx = build(
-        {"logging": {"triggers": {"emergency_stop": DELETE, "protective_stop": DELETE,
-                                  "safety_state": {"column": "state", "normal": ["OK"]}}}},
-        t=t, states={"state": text},
+        {
+            "logging": {
+                "triggers": {
+                    "emergency_stop": DELETE,
+                    "protective_stop": DELETE,
+                    "safety_state": {"column": "state", "normal": ["OK"]},
+                }
+            }
+        },
+        t=t,
+        states={"state": text},
     )
     f = only(stop_latency.run(ctx))
     assert dict(f.extra)["trigger"] == "safety_state" and f.t_start == pytest.approx(T_TRIG)
@@ -293,8 +338,17 @@ def test_missing_trigger_column_is_not_assessable() -> None:
 
 def test_trigger_active_from_the_first_sample_cannot_be_timed() -> None:
     t = clock(2.0)
-    f = only(stop_latency.run(build(t=t, pos=np.full(t.size, 0.9), vel=np.zeros(t.size), tau=np.zeros(t.size),
-                                    estop=np.ones(t.size))))
+    f = only(
+        stop_latency.run(
+            build(
+                t=t,
+                pos=np.full(t.size, 0.9),
+                vel=np.zeros(t.size),
+                tau=np.zeros(t.size),
+                estop=np.ones(t.size),
+            )
+        )
+    )
     assert (f.kind, f.severity) == (Kind.NOT_ASSESSABLE, Severity.WARNING) and "first sample" in f.message
 
 
@@ -323,8 +377,14 @@ def _speeding(t: np.ndarray, t_exc: float, stops: bool) -> tuple[np.ndarray, np.
 def test_exceedance_followed_by_a_stop() -> None:
     t = clock(2.0)
     p, v = _speeding(t, 1.0, stops=True)
-    ctx = build({"stop": {"standstill": {"speed": "2 deg/s"}}}, t=t, pos=p, vel=v, tau=torque_cat0(t),
-                estop=np.zeros(t.size))
+    ctx = build(
+        {"stop": {"standstill": {"speed": "2 deg/s"}}},
+        t=t,
+        pos=p,
+        vel=v,
+        tau=torque_cat0(t),
+        estop=np.zeros(t.size),
+    )
     f = only(stop_latency.run(ctx))
     assert (f.kind, f.subject, dict(f.extra)["trigger"]) == (Kind.STOP, "elbow", "exceedance")
     # 50 ms, then 100 -> 2 deg/s at 1000 deg/s² takes 98 ms: the speed is exactly 2 deg/s at 148 ms, so the
@@ -335,8 +395,14 @@ def test_exceedance_followed_by_a_stop() -> None:
 def test_required_stop_after_an_exceedance_never_comes() -> None:
     t = clock(2.0)
     p, v = _speeding(t, 1.0, stops=False)
-    ctx = build({"stop": {"standstill": {"speed": "2 deg/s"}}}, t=t, pos=p, vel=v, tau=np.full(t.size, 2.0),
-                estop=np.zeros(t.size))
+    ctx = build(
+        {"stop": {"standstill": {"speed": "2 deg/s"}}},
+        t=t,
+        pos=p,
+        vel=v,
+        tau=np.full(t.size, 2.0),
+        estop=np.zeros(t.size),
+    )
     f = only(stop_latency.run(ctx))
     assert (f.kind, f.severity, f.subject) == (Kind.VIOLATION, Severity.ERROR, "elbow")
     assert "the required stop never came" in f.message and "device speed limit" in f.message

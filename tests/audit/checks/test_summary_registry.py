@@ -23,8 +23,10 @@ def test_summary_figures() -> None:
     ch["fx"] = plateau(t, 10.0, 30.0, 1.0, 5.0 - 1e-3)
     ch["fy"] = np.zeros(t.size)
     estop = plateau(t, 0.0, 1.0, 7.0, 8.0)
-    ctx = context(protocol({"logging": {"triggers": {"emergency_stop": {"column": "estop", "active": [1]}}}}),
-                  stream(t, ch, states={"estop": estop}))
+    ctx = context(
+        protocol({"logging": {"triggers": {"emergency_stop": {"column": "estop", "active": [1]}}}}),
+        stream(t, ch, states={"estop": estop}),
+    )
     s = summarise(ctx)
     assert s.duration == pytest.approx(10.0)
     assert s.active_time == pytest.approx(3.001, abs=1e-9) and s.motion_unknown_time == 0.0
@@ -33,8 +35,12 @@ def test_summary_figures() -> None:
     assert cuff.peak == pytest.approx(30.0) and cuff.t_peak == pytest.approx(1.0)
     assert cuff.rms == pytest.approx(np.sqrt(420.0), rel=1e-3) and cuff.coverage == 1.0
     (elbow,) = s.joints
-    assert (elbow.min, elbow.max, elbow.range_used, elbow.unit) == (pytest.approx(20.0), pytest.approx(50.0),
-                                                                    pytest.approx(30.0), "deg")
+    assert (elbow.min, elbow.max, elbow.range_used, elbow.unit) == (
+        pytest.approx(20.0),
+        pytest.approx(50.0),
+        pytest.approx(30.0),
+        "deg",
+    )
     assert elbow.speed_source == "logged"
     assert s.stops == 1 and dict(s.stops_by_source) == {"emergency_stop": 1}
     assert s.to_dict()["stops_by_source"] == {"emergency_stop": 1}
@@ -50,7 +56,7 @@ def test_summary_states_derived_speed_and_what_was_not_available() -> None:
     (elbow,) = s.joints
     assert elbow.speed_source == "derived" and "21 samples" in elbow.speed_note
     assert elbow.coverage == pytest.approx(1 - 100 / t.size)
-    # derived speed invalid over the NaN run and half a window either side: motion unknown there, not "at rest"
+    # derived speed invalid over the NaN run and half a window either side: motion unknown, not "at rest"
     assert s.motion_unknown_time == pytest.approx(0.120, abs=2e-3)
     (cuff,) = s.contacts
     assert cuff.peak is None and "not in the log" in cuff.note
