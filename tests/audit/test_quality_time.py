@@ -73,7 +73,8 @@ def test_duplicate_timestamps(tmp_path: Path) -> None:
         (Severity.WARNING, 500, 500, "time_order"),
         (Severity.WARNING, 700, 702, "time_order"),
     ]
-    # the step 0.499 -> 0.501 s is 2 ms: at the gap tolerance (2 × 1 ms), not beyond it; 0.699 -> 0.703 is a gap
+    # the step 0.499 -> 0.501 s is 2 ms: at the gap tolerance (2 × 1 ms), not beyond it;
+    # 0.699 -> 0.703 s is a gap
     (gap,) = _ours(q, "Q104")
     assert (gap.i_start, gap.i_end) == (699, 703) and gap.peak == pytest.approx(0.004)
     assert not q.session.time_valid["main"][[500, 700, 701, 702]].any()

@@ -1,5 +1,6 @@
-"""Data-quality checks of the values: missing values, constant channels, saturation, force offset at rest and
-suspected unit errors.  Each case asserts the exact findings and that the affected samples are not analysed."""
+"""Data-quality checks of the values: missing values, constant channels, saturation, force offset at rest
+and suspected unit errors.  Each case asserts the exact findings and that the affected samples are not
+analysed."""
 
 from __future__ import annotations
 
@@ -205,7 +206,7 @@ def test_velocity_logged_in_rad_per_s_but_declared_deg_per_s(tmp_path: Path) -> 
 
 def test_velocity_of_opposite_sign(tmp_path: Path) -> None:
     main = _with(logmaker.main_table(), "sh_abd_vel", lambda x: -x)
-    (f, g) = _ours(logmaker.quality_of(tmp_path, main=main), "Q110")
+    (f, _) = _ours(logmaker.quality_of(tmp_path, main=main), "Q110")
     assert f.severity == Severity.WARNING and "sign" in f.message and f.peak == pytest.approx(-1, rel=0.02)
 
 
