@@ -56,6 +56,17 @@ def test_locked_joint_within_tolerance_and_measured_from_the_first_valid_sample(
     assert locked.run(wrist_ctx(wr, t)) == []
 
 
+def test_locked_joint_reference_is_the_first_valid_sample() -> None:
+    t = clock(2.0)
+    wr = np.full(t.size, 20.0)
+    wr[:100] = np.nan
+    wr[1000:1200] = 23.0  # 3 deg from the first valid sample (20 deg)
+    f = only(locked.run(wrist_ctx(wr, t)))
+    assert dict(f.extra)["reference_position"] == pytest.approx(20.0)
+    assert (f.i_start, f.i_end, f.direction) == (1000, 1199, "positive")
+    assert f"{t[100]:.3f} s" in f.message
+
+
 def test_participant_list_replaces_the_protocols() -> None:
     t = clock(2.0)
     wr = 10.0 + plateau(t, 0.0, 5.0, 0.5, 0.9)

@@ -414,3 +414,19 @@ def test_planned_exceedance_does_not_require_a_stop_by_default() -> None:
     p = 0.2 + np.cumsum(v) * DT
     ctx = build({"stop": {"standstill": {"speed": "2 deg/s"}}}, t=t, pos=p, vel=v, estop=np.zeros(t.size))
     assert stop_latency.run(ctx) == []
+
+
+def test_a_clock_glitch_before_the_trigger_does_not_move_the_stop() -> None:
+    # 20 samples logged with a time stamp 0.2 s back (the data-quality pass marks them not valid): the trigger
+    # and the standstill keep their own rows, so the latency is still 300 ms
+    t = clock(2.0)
+    p, v = kinematics(t)
+    glitched = t.copy()
+    glitched[500:520] -= 0.2
+    tv = np.ones(t.size, bool)
+    tv[500:520] = False
+    ch = {"elb_pos": p, "elb_vel": v, "elb_tau": torque_cat1(t, 1.3)} | quiet_cuff(t)
+    states = {"estop": (t >= T_TRIG).astype(float), "pstop": np.zeros(t.size)}
+    ctx = context(protocol(STOP), stream(glitched, ch, states=states), time_valid={"main": tv})
+    f = only(stop_latency.run(ctx))
+    assert f.peak == pytest.approx(300.0, abs=1.0) and f.i_start == 1000

@@ -247,7 +247,7 @@ def _analyse(ctx: AuditContext) -> StopAnalysis:
     dt = sample_period(mot.t) if not isinstance(mot, Unavailable) else float("nan")
 
     torque_missing: list[tuple[str, Unavailable]] = []
-    off_runs: dict[str, tuple[np.ndarray, tuple[np.ndarray, np.ndarray]]] = {}
+    off_runs: dict[str, tuple[str, np.ndarray, tuple[np.ndarray, np.ndarray]]] = {}
     level = stop.torque_off.level.si if stop.torque_off is not None else None
     if level is not None:
         for name in p.joints:
@@ -257,7 +257,7 @@ def _analyse(ctx: AuditContext) -> StopAnalysis:
                 continue
             off = np.abs(tq.x) <= level
             off &= tq.valid
-            off_runs[name] = (tq.t, runs(off))
+            off_runs[name] = (tq.stream, tq.t, runs(off))
 
     hold = stop.standstill.hold.si
     episodes: list[Episode] = []
@@ -274,14 +274,19 @@ def _analyse(ctx: AuditContext) -> StopAnalysis:
         t_still: float | None = None
         i_still: int | None = None
         if not isinstance(mot, Unavailable) and still_runs is not None:
-            i0 = int(np.searchsorted(mot.t, trig.t, side="left"))
+            i0 = _start_on(mot.stream, mot.t, trig)
             if i0 < mot.t.shape[0]:
                 i_still = first_sustained(mot.t, *still_runs, i0, hold)
                 t_still = float(mot.t[i_still]) if i_still is not None else None
-        joints = tuple(_joint_stop(ctx, name, trig.t, t_still, stop.standstill.speed.si) for name in p.joints)
+        still = (
+            None
+            if (i_still is None or t_still is None or isinstance(mot, Unavailable))
+            else (mot.stream, i_still, t_still)
+        )
+        joints = tuple(_joint_stop(ctx, name, trig, still, stop.standstill.speed.si) for name in p.joints)
         torque_off: list[tuple[str, float | None]] = []
-        for name, (tt, (starts, ends)) in off_runs.items():
-            k0 = int(np.searchsorted(tt, trig.t, side="left"))
+        for name, (tq_stream, tt, (starts, ends)) in off_runs.items():
+            k0 = _start_on(tq_stream, tt, trig)
             k = first_sustained(tt, starts, ends, k0, hold) if k0 < tt.shape[0] else None
             torque_off.append((name, float(tt[k]) if k is not None else None))
         episodes.append(
@@ -326,28 +331,47 @@ def _with_folded(ep: Episode, folded: list[Trigger]) -> Episode:
     )
 
 
+def _start_on(stream: str, t: np.ndarray, trig: Trigger) -> int:
+    """The trigger's sample on a clock: its own index on its stream, else the first sample at or after it.
+
+    Using the recorded index where the streams agree keeps the mapping exact even where the clock has a glitch
+    (time out of order), which a binary search on time would not survive.
+    """
+    if stream == trig.stream:
+        return trig.i
+    return int(np.searchsorted(t, trig.t, side="left"))
+
+
+def _end_on(stream: str, t: np.ndarray, still: tuple[str, int, float] | None) -> int:
+    """The last sample at or before standstill on a clock (the end of the log when no standstill came)."""
+    if still is None:
+        return t.shape[0] - 1
+    s, i, when = still
+    if stream == s:
+        return i
+    return int(np.searchsorted(t, when, side="right")) - 1
+
+
 def _joint_stop(
-    ctx: AuditContext, name: str, t_trig: float, t_still: float | None, threshold: float
+    ctx: AuditContext, name: str, trig: Trigger, still: tuple[str, int, float] | None, threshold: float
 ) -> JointStop | None:
     pos = joint_signal(ctx, name, "position")
     sp = joint_signal(ctx, name, "speed")
     if isinstance(pos, Unavailable) or isinstance(sp, Unavailable):
         return None
-    t_stop = t_still if t_still is not None else np.inf
     # speed at the trigger and motion during the stop, on the speed's clock
-    a = int(np.searchsorted(sp.t, t_trig, side="left"))
-    b = int(np.searchsorted(sp.t, t_stop, side="right"))
+    a = _start_on(sp.stream, sp.t, trig)
     if a >= sp.t.shape[0]:
         return None
+    b = max(_end_on(sp.stream, sp.t, still), a)
     v0 = float(sp.x[a]) if sp.valid[a] else None
-    seg = slice(a, max(b, a + 1))
+    seg = slice(a, b + 1)
     moved = bool(np.any((np.abs(sp.x[seg]) > threshold) & sp.valid[seg]))
     # excursion of the position from where it was at the trigger
-    i = int(np.searchsorted(pos.t, t_trig, side="left"))
-    j = int(np.searchsorted(pos.t, t_stop, side="right")) - 1
+    i = _start_on(pos.stream, pos.t, trig)
     if i >= pos.t.shape[0]:
         return None
-    j = max(j, i)
+    j = max(_end_on(pos.stream, pos.t, still), i)
     x = pos.x[i : j + 1]
     ok = pos.valid[i : j + 1]
     distance: float | None = None
