@@ -164,3 +164,14 @@ def test_keys_of_a_mixed_session() -> None:
         ("A111", "violation", "cuff", "force", "transient", None),
         ("A111", "violation", "cuff", "force", "quasi_static", None),
     }  # 100 N / 40 cm² = 2.5 N/cm² for 0.1 s is a transient contact within the 3 N/cm² transient pressure
+
+
+def test_pressure_without_force_channel_is_not_assessable() -> None:
+    t = clock(1.0)
+    f = only(pressure.run(context(protocol(), stream(t, still_joint(t)))))
+    assert (f.code, f.kind, f.severity, f.quantity) == (
+        "A112",
+        Kind.NOT_ASSESSABLE,
+        Severity.ERROR,
+        "pressure",
+    )

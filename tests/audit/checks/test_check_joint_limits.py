@@ -150,3 +150,25 @@ def test_acceleration_from_the_velocity_channel() -> None:
     f = only(acceleration.run(context(proto, stream(t, channels(t, elb_vel=deg(vel))))))
     assert (f.direction, f.layer, f.limit) == ("negative", "device", 400.0)
     assert f.peak == pytest.approx(500.0, rel=1e-6) and f.channel == "elb_vel"
+
+
+def test_acceleration_declared_without_any_usable_channel_is_not_assessable() -> None:
+    proto = protocol({"joints": {"elbow": {"acceleration": {"device": "400 deg/s^2"}}}})
+    t = clock(1.0)
+    ch = channels(t)
+    del ch["elb_vel"], ch["elb_pos"]
+    f = only(acceleration.run(context(proto, stream(t, ch))))
+    assert (f.code, f.kind, f.severity, f.quantity) == (
+        "A104",
+        Kind.NOT_ASSESSABLE,
+        Severity.ERROR,
+        "acceleration",
+    )
+
+
+def test_a_log_shorter_than_the_derivative_window_is_not_assessable_for_derived_speed() -> None:
+    t = clock(0.01)  # 11 samples, window 21
+    ch = channels(t)
+    del ch["elb_vel"]
+    f = only(speed_check.run(context(protocol(NO_VELOCITY), stream(t, ch))))
+    assert f.kind is Kind.NOT_ASSESSABLE and "21-sample window" in f.message
