@@ -50,6 +50,7 @@ def _root(
 from bracer.cli import audit as _audit  # noqa: E402,F401
 from bracer.cli import review as _review  # noqa: E402,F401
 from bracer.cli import schema as _schema  # noqa: E402,F401
+from bracer.cli import simulate as _simulate  # noqa: E402,F401
 
 
 def main() -> None:

@@ -1,0 +1,51 @@
+"""Sensor error: a constant offset, Gaussian noise and quantisation, applied to a whole channel at once."""
+
+from __future__ import annotations
+
+import math
+import zlib
+
+import numpy as np
+from numpy.typing import NDArray
+
+from bracer.simulate.params import SensorModel
+
+__all__ = ["channel_rng", "measure", "quantise"]
+
+
+def channel_rng(seed: int, column: str) -> np.random.Generator:
+    """A generator of its own for each column, so that a channel's noise depends only on the seed and its
+    name."""
+    return np.random.default_rng([seed, zlib.crc32(column.encode("utf-8"))])
+
+
+def quantise(x: NDArray[np.float64], step: float) -> NDArray[np.float64]:
+    """Round to the nearest multiple of ``step`` (no rounding when ``step`` is 0); shape as ``x``.
+
+    A decimal step (0.01, 0.1 ...) rounds to that many decimals, so that values print as short decimals.
+    """
+    if step <= 0:
+        return x
+    decimals = -math.log10(step)
+    if abs(decimals - round(decimals)) < 1e-9:
+        return np.round(x, round(decimals))
+    return np.round(x / step) * step
+
+
+def measure(
+    x: NDArray[np.float64], model: SensorModel, rng: np.random.Generator
+) -> tuple[NDArray[np.float64], float]:
+    """What the sensor logs for the true signal ``x`` (n,): ``quantise(x + offset + noise)``.
+
+    Returns
+    -------
+    reading : ndarray, shape (n,)
+        Same unit as ``x``.
+    offset : float
+        The channel's offset, drawn uniformly in ±``model.offset``.
+    """
+    offset = float(rng.uniform(-model.offset, model.offset)) if model.offset > 0 else 0.0
+    noisy = x + offset
+    if model.noise > 0:
+        noisy = noisy + model.noise * rng.standard_normal(x.shape[0])
+    return quantise(noisy, model.step), offset
