@@ -15,10 +15,20 @@ def test_table_rows_match_winter_table_4_1() -> None:
     # forearm 0.016 M, 0.430, 0.303; hand 0.006 M, 0.506, 0.297.
     rows = winter_segments()
     assert (rows["upper_arm"].mass_fraction, rows["upper_arm"].com_proximal, rows["upper_arm"].rg_com) == (
-        0.028, 0.436, 0.322)
+        0.028,
+        0.436,
+        0.322,
+    )
     assert (rows["forearm"].mass_fraction, rows["forearm"].com_proximal, rows["forearm"].rg_com) == (
-        0.016, 0.430, 0.303)
-    assert (rows["hand"].mass_fraction, rows["hand"].com_proximal, rows["hand"].rg_com) == (0.006, 0.506, 0.297)
+        0.016,
+        0.430,
+        0.303,
+    )
+    assert (rows["hand"].mass_fraction, rows["hand"].com_proximal, rows["hand"].rg_com) == (
+        0.006,
+        0.506,
+        0.297,
+    )
     assert all(r.confidence == "C2" and "Winter" in r.source for r in rows.values())
     assert all(r.length_confidence == "M" for r in rows.values())  # Fig. 4.1 lengths are from memory
 

@@ -55,8 +55,8 @@ def test_single_segment_from_horizontal_needs_m_g_lc_cos(deg: float) -> None:
 
 
 def test_two_segment_chain_against_a_hand_calculation() -> None:
-    # Upper segment m1 = 2 kg, l1 = 0.3 m, l_c1 = 0.13 m; lower m2 = 1.5 kg, l_c2 = 0.12 m; q1 = 60°, q2 = 45°.
-    # By hand (statics, moments about each joint):
+    # Upper segment m1 = 2 kg, l1 = 0.3 m, l_c1 = 0.13 m; lower m2 = 1.5 kg, l_c2 = 0.12 m; q1 = 60°, q2 =
+    # 45°. By hand (statics, moments about each joint):
     #   τ2 = g·m2·l_c2·sin(q1 + q2) = 9.81·1.5·0.12·sin 105° = 1.70563 N·m
     #   τ1 = g·[m1·l_c1·sin q1 + m2·(l1·sin q1 + l_c2·sin(q1 + q2))]
     #      = 9.81·[2·0.13·0.86603 + 1.5·(0.3·0.86603 + 0.12·0.96593)] = 9.81·0.78875 = 7.73759 N·m
@@ -76,9 +76,9 @@ def test_planar_two_link_arm_equations_of_motion(
     q: tuple[float, float], qd: tuple[float, float], qdd: tuple[float, float]
 ) -> None:
     # Planar two-link ('elbow') arm from Lagrange's equations, as in Spong, Hutchinson & Vidyasagar, Robot
-    # Modeling and Control (2006), ch. 7 [M: written from memory, re-derived by hand], angles from the vertical:
-    #   M11 = m1 lc1² + I1 + m2 (l1² + lc2² + 2 l1 lc2 cos q2) + I2,  M12 = m2 (lc2² + l1 lc2 cos q2) + I2,
-    #   M22 = m2 lc2² + I2,  h = −m2 l1 lc2 sin q2,
+    # Modeling and Control (2006), ch. 7 [M: written from memory, re-derived by hand], angles from the
+    # vertical: M11 = m1 lc1² + I1 + m2 (l1² + lc2² + 2 l1 lc2 cos q2) + I2,  M12 = m2 (lc2² + l1 lc2 cos q2)
+    # + I2, M22 = m2 lc2² + I2,  h = −m2 l1 lc2 sin q2,
     #   τ1 = M11 q̈1 + M12 q̈2 + h (2 q̇1 q̇2 + q̇2²) + g (m1 lc1 + m2 l1) sin q1 + g m2 lc2 sin(q1 + q2)
     #   τ2 = M12 q̈1 + M22 q̈2 − h q̇1² + g m2 lc2 sin(q1 + q2)
     m1, l1, lc1, i1 = 2.0, 0.3, 0.13, 0.02
@@ -124,8 +124,9 @@ def test_fixing_a_joint_at_zero_changes_no_other_torque() -> None:
     reduced = fix_joints(chain, {"wrist_flexion", "shoulder_rotation"})
     assert reduced.names == ("shoulder_abduction", "shoulder_flexion", "elbow_flexion", "forearm_rotation")
     keep = [0, 1, 3, 4]
-    np.testing.assert_allclose(inverse_dynamics(reduced, q[:, keep], qd[:, keep], qdd[:, keep]), full[:, keep],
-                               atol=1e-12)
+    np.testing.assert_allclose(
+        inverse_dynamics(reduced, q[:, keep], qd[:, keep], qdd[:, keep]), full[:, keep], atol=1e-12
+    )
 
 
 def test_the_arm_hangs_and_lifts_in_the_documented_directions() -> None:
@@ -149,6 +150,10 @@ def test_batches_are_chunk_independent() -> None:
     rng = np.random.default_rng(3)
     q, qd, qdd = (rng.normal(size=(70_000, 6)) for _ in range(3))
     whole = inverse_dynamics(chain, q, qd, qdd)
-    parts = np.vstack([inverse_dynamics(chain, q[s:s + 9_999], qd[s:s + 9_999], qdd[s:s + 9_999])
-                       for s in range(0, 70_000, 9_999)])
+    parts = np.vstack(
+        [
+            inverse_dynamics(chain, q[s : s + 9_999], qd[s : s + 9_999], qdd[s : s + 9_999])
+            for s in range(0, 70_000, 9_999)
+        ]
+    )
     np.testing.assert_array_equal(whole, parts)

@@ -20,8 +20,8 @@ from bracer.simulate.minjerk import (
 )
 from bracer.simulate.timeline import HOLD, MOVE, Segment, Timeline
 
-# Flash & Hogan 1985: x(τ) = x0 + (xf − x0)(10τ³ − 15τ⁴ + 6τ⁵).  The polynomial and its derivatives, computed by
-# numpy's polynomial class (an independent route to the same closed form).
+# Flash & Hogan 1985: x(τ) = x0 + (xf − x0)(10τ³ − 15τ⁴ + 6τ⁵).  The polynomial and its derivatives, computed
+# by numpy's polynomial class (an independent route to the same closed form).
 QUINTIC = Polynomial([0, 0, 0, 10, -15, 6])
 
 
@@ -50,20 +50,19 @@ def test_peak_speed_is_1_875_d_over_t_at_mid_time() -> None:
 
 
 def test_peak_acceleration_is_10_over_root_3() -> None:
-    # d²s/dτ² = 60τ(1 − τ)(1 − 2τ) is largest at τ = 1/2 − √3/6, where it equals 10/√3 (calculus on the quintic).
+    # d²s/dτ² = 60τ(1 − τ)(1 − 2τ) is largest at τ = 1/2 − √3/6, where it equals 10/√3 (calculus on the
+    # quintic).
     tau = np.linspace(0.0, 1.0, 100_001)
     acc = shape_acceleration(tau)
     assert tau[np.argmax(acc)] == pytest.approx(0.5 - math.sqrt(3) / 6, abs=1e-5)
     assert acc.max() == pytest.approx(10 / math.sqrt(3), rel=1e-9)
-    assert PEAK_ACCELERATION_FACTOR == pytest.approx(5.773502691896258)
+    assert pytest.approx(5.773502691896258) == PEAK_ACCELERATION_FACTOR
 
 
 def test_a_timeline_move_has_the_closed_form_speed_at_every_sample() -> None:
     # A 60 deg move in 2 s: peak 1.875·60/2 = 56.25 deg/s at t = 1 s (Flash & Hogan 1985).
     x0, xf, t_move = np.radians([10.0]), np.radians([70.0]), 2.0
-    tl = Timeline.from_segments(
-        [Segment(0.0, MOVE, x0, xf, t_move), Segment(t_move, HOLD, xf, xf)], joints=1
-    )
+    tl = Timeline.from_segments([Segment(0.0, MOVE, x0, xf, t_move), Segment(t_move, HOLD, xf, xf)], joints=1)
     t = np.arange(0, 2001) / 1000.0
     q, qd, qdd = tl.evaluate(t)
     assert np.degrees(qd[1000, 0]) == pytest.approx(56.25, rel=1e-12)
@@ -78,7 +77,9 @@ def test_a_timeline_move_has_the_closed_form_speed_at_every_sample() -> None:
     speed=st.floats(0.05, 5.0),
     accel=st.one_of(st.none(), st.floats(0.1, 50.0)),
 )
-def test_duration_for_keeps_both_peaks_and_meets_one(distance: float, speed: float, accel: float | None) -> None:
+def test_duration_for_keeps_both_peaks_and_meets_one(
+    distance: float, speed: float, accel: float | None
+) -> None:
     # Inverting peak speed 1.875·D/T and peak acceleration (10/√3)·D/T²: the result meets the tighter bound.
     t = float(duration_for(distance, speed, accel))
     peak_v = PEAK_SPEED_FACTOR * distance / t

@@ -53,8 +53,9 @@ def test_refuses_impossible_parameters(bad: dict[str, float]) -> None:
 
 
 @settings(max_examples=60, deadline=None)
-@given(v0=st.floats(-3.0, 3.0).filter(lambda v: abs(v) > 1e-3), a=st.floats(0.5, 50.0),
-       tr=st.floats(0.0, 0.5))
+@given(
+    v0=st.floats(-3.0, 3.0).filter(lambda v: abs(v) > 1e-3), a=st.floats(0.5, 50.0), tr=st.floats(0.0, 0.5)
+)
 def test_integrated_speed_is_the_closed_form_distance(v0: float, a: float, tr: float) -> None:
     # Trapezoidal integral of the sampled speed (exact for a piecewise-linear speed up to the sample grid)
     # against d = v0·t_r + v0²/(2a).

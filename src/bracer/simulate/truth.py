@@ -440,7 +440,7 @@ def _torque_off(plan: Plan, d: StopDetail) -> float | None:
     return latest - d.t_trigger if logged else None
 
 
-def _stop_distances(plan: Plan, inc: Incident, d: StopDetail) -> list[TruthEntry]:
+def _stop_distances(plan: Plan, inc: Incident, d: StopDetail, truth: StopTruth) -> list[TruthEntry]:
     """Each braking joint's stop distance (closed form) against the distance its protocol reaction time and
     stop_deceleration allow, v0·t_r + v0²/(2a), in the unit of its position channel."""
     stop = plan.envelope.protocol.stop
@@ -471,6 +471,7 @@ def _stop_distances(plan: Plan, inc: Incident, d: StopDetail) -> list[TruthEntry
                 layer="reaction_time and stop_deceleration",
                 limit_in_unit=_in(abs(allowed), ch.unit),
                 subject=(name, "joint"),
+                stop=truth,
             )
         )
     return out
@@ -541,7 +542,7 @@ def _stop(plan: Plan, inc: Incident, d: StopDetail) -> list[TruthEntry]:
             stop=truth,
         )
     ]
-    out += _stop_distances(plan, inc, d)
+    out += _stop_distances(plan, inc, d, truth)
     if off is not None and stop.torque_off is not None:
         within = stop.torque_off.within
         unit = within.unit if within is not None else "ms"
