@@ -37,8 +37,7 @@ def write_stream(stream: RenderedStream, folder: Path, fmt: Format) -> Path:
     if fmt == "parquet":
         import pyarrow.parquet as pq
 
-        status = [f.name for f in fields if not pa.types.is_floating(f.type)]
-        pq.write_table(table, path, use_dictionary=status)  # dictionaries only help the status columns
+        pq.write_table(table, path)
     elif fmt == "arrow":
         import pyarrow.ipc as ipc
 
