@@ -48,8 +48,10 @@ def _root(
 
 # Commands register themselves on `app` when their module is imported.
 from bracer.cli import audit as _audit  # noqa: E402,F401
+from bracer.cli import report as _report  # noqa: E402,F401
 from bracer.cli import review as _review  # noqa: E402,F401
 from bracer.cli import schema as _schema  # noqa: E402,F401
+from bracer.cli import verify as _verify  # noqa: E402,F401
 from bracer.cli import simulate as _simulate  # noqa: E402,F401
 
 

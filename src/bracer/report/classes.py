@@ -172,7 +172,7 @@ def _summary(
             f"{plural(len(dq), 'data-quality finding')} ({n_err} error, {n_warn} warning); "
             f"analysed: {percent(frac)} of session time with every analysed channel covered"
             if dq
-            else f"no data-quality problem found; analysed: {percent(frac)} of session time with every "
+            else f"no data-quality finding; analysed: {percent(frac)} of session time with every "
             "analysed channel covered"
         )
         return ClassSummary(lc.key, lc.label, 0, 0, len(na), events, head, tuple(missing), refs)
@@ -197,6 +197,10 @@ def _summary(
         head = f"no exceedance found in the analysed data ({analysed})"
     if near:
         head += f"; {plural(near, 'near miss', 'near misses')}"
+    warned = [f for f in rows if f.kind not in ("violation", "near_miss", "not_assessable")
+              and f.severity in ("warning", "error")]
+    if warned:
+        head += f"; {plural(len(warned), 'further warning')} ({', '.join(f.ref for f in warned)})"
     if na:
         head += f"; {len(na)} part(s) not assessable ({', '.join(f.ref for f in na)})"
     elif missing and share is not None:

@@ -16,6 +16,7 @@ found unfit to analyse are not drawn: the line has a gap there.
 
 from __future__ import annotations
 
+import dataclasses
 import math
 from collections.abc import Sequence
 from dataclasses import dataclass
@@ -47,6 +48,16 @@ _JOINT_PANEL = {
     "torque": "torque",
 }
 _CONTACT_Q = ("force", "pressure", "sustained_force")
+#: ISO/TS 15066 body-region keys in words
+_REGION_WORDS = {
+    "skull_forehead": "skull and forehead",
+    "back_shoulders": "back and shoulders",
+    "upper_arm_elbow": "upper arm and elbow",
+    "lower_arm_wrist": "lower arm and wrist",
+    "hand_fingers": "hand and fingers",
+    "thigh_knee": "thigh and knee",
+    "lower_leg": "lower leg",
+}
 _STOP_Q = ("stop_latency", "torque_off", "stop_category", "stop_distance")
 
 
@@ -289,12 +300,14 @@ class _Builder:
         spans = self.spans_for(name, panel_of, "force")
         panel = self.contact_panel(name, self.t0, self.t1, spans, self.stop_markers(self.t0, self.t1))
         fid = f"contact-{name}"
-        region = contact.body_region.replace("_", " ")
+        region = _REGION_WORDS.get(contact.body_region, contact.body_region.replace("_", " "))
+        if contact.specific_area:
+            region += f" ({contact.specific_area})"
         self.figures.append(
             Figure(
                 fid,
                 f"Contact {name}: force magnitude",
-                f"{contact.kind} on the {region} (area {contact.area}). Force against the quasi-static and transient "
+                f"{contact.kind} on the {region}, area {contact.area}. Force against the quasi-static and transient "
                 "limits; the sustained-force level and the force each pressure limit corresponds to (pressure × "
                 "contact area) as lines.",
                 Chart((panel,), self.t0, self.t1),
@@ -327,10 +340,12 @@ class _Builder:
                 f.subject, {**_JOINT_PANEL, "acceleration": "acceleration"}, panel, zoom=f.ref
             )
             p = self.joint_panel(f.subject, panel, t0, t1, spans, self.stop_markers(t0, t1))
+            p = dataclasses.replace(p, fit="data")
             what = f"joint {f.subject} {panel}"
         elif f.subject in self.protocol.contacts and f.quantity in _CONTACT_Q:
             spans = self.spans_for(f.subject, dict.fromkeys(_CONTACT_Q, "force"), "force", zoom=f.ref)
             p = self.contact_panel(f.subject, t0, t1, spans, self.stop_markers(t0, t1))
+            p = dataclasses.replace(p, fit="data")
             what = f"contact {f.subject} force"
         else:
             return False

@@ -104,8 +104,10 @@ class Panel:
     spans: tuple[Span, ...] = ()
     markers: tuple[Marker, ...] = ()
     note: str = ""  # shown in the panel when it has no series (e.g. "channel not in the log")
-    #: draw the limits' zones only as far as the data need, when the data stay well inside them
+    #: values the y axis must show whatever the data (e.g. zero force)
     y_include: tuple[float, ...] = ()
+    #: "limits": the y axis shows every limit line; "data": the data, and the limit lines near them (zooms)
+    fit: Literal["limits", "data"] = "limits"
 
 
 @dataclass(frozen=True, eq=False)
@@ -223,6 +225,9 @@ def _y_range(panel: Panel) -> tuple[float, float]:
     data_lo = min(values) if values else None
     data_hi = max(values) if values else None
     limits = [b.edge for b in panel.bands] + [lv.y for lv in panel.levels]
+    if panel.fit == "data" and data_lo is not None and data_hi is not None:
+        reach = (data_hi - data_lo) or abs(data_hi) * 0.1 or 1.0
+        limits = [v for v in limits if data_lo - reach <= v <= data_hi + reach]
     values += limits
     if not values:
         return 0.0, 1.0
@@ -487,8 +492,8 @@ def _chart(chart: Chart, uid: str) -> tuple[list[str], float]:
 
 
 def _bars(chart: BarChart, uid: str) -> tuple[list[str], float]:
-    row_h = 26
-    x0, x1 = LEFT + 150, WIDTH - 70
+    row_h = 30
+    x0, x1 = LEFT + 110, WIDTH - 90
     top = TOP + 4
     values = [b.value for b in chart.bars if b.value is not None] + [b.budget for b in chart.bars if b.budget]
     hi = max(values + ([chart.cap] if chart.cap else []), default=1.0) * 1.1 or 1.0
@@ -509,7 +514,10 @@ def _bars(chart: BarChart, uid: str) -> tuple[list[str], float]:
         out.append(_text(px(v), y_axis + 13, _tick_text(v, step), size=9.5, anchor="middle"))
     for k, b in enumerate(chart.bars):
         y = top + k * row_h
-        out.append(_text(x0 - 8, y + row_h / 2 + 3.5, b.label, size=10, anchor="end"))
+        out.append(_text(x0 - 8, y + row_h / 2 - 1, b.label, size=10, anchor="end"))
+        if b.budget is not None:
+            budget = f"budget {_tick_text(b.budget, step)} {b.unit}"
+            out.append(_text(x0 - 8, y + row_h / 2 + 9, budget, size=8.5, anchor="end", fill="#b2401a"))
         if b.value is not None:
             w = max(px(b.value) - x0, 1.0)
             fill = "#4a4a4a" if b.style == "standstill" else f"url(#{uid}-dev)"
@@ -532,16 +540,6 @@ def _bars(chart: BarChart, uid: str) -> tuple[list[str], float]:
             out.append(
                 f'<line x1="{_n(xb)}" y1="{_n(y + 2)}" x2="{_n(xb)}" y2="{_n(y + row_h - 2)}" '
                 'stroke="#b2401a" stroke-width="2" stroke-dasharray="4 2"/>'
-            )
-            out.append(
-                _text(
-                    xb + 3,
-                    y + 9,
-                    f"budget {_tick_text(b.budget, step)} {b.unit}",
-                    size=8,
-                    fill="#b2401a",
-                    extra=' paint-order="stroke" stroke="#ffffff" stroke-width="2.5"',
-                )
             )
     out.append(
         f'<line x1="{_n(x0)}" y1="{_n(top)}" x2="{_n(x0)}" y2="{_n(y_axis)}" stroke="{_INK}" '

@@ -18,6 +18,15 @@ __all__ = ["FORMATS", "parse_formats", "report_stem", "write_report"]
 FORMATS = ("md", "html", "pdf", "json")
 
 
+def _umask() -> int:
+    mask = os.umask(0o022)
+    os.umask(mask)
+    return mask
+
+
+_UMASK = _umask()
+
+
 def parse_formats(text: str) -> tuple[str, ...]:
     """``"md,html"`` -> ("md", "html"); ``all`` means every format.
 
@@ -58,6 +67,7 @@ def _atomic(path: Path, data: bytes) -> None:
     try:
         with os.fdopen(fd, "wb") as handle:
             handle.write(data)
+        os.chmod(tmp, 0o666 & ~_UMASK)  # mkstemp makes the file private; a report is an ordinary file
         os.replace(tmp, path)
     except BaseException:
         Path(tmp).unlink(missing_ok=True)
