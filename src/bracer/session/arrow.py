@@ -38,9 +38,9 @@ def read(
     try:
         if stream:
             with pa.memory_map(str(path)) as source:
-                table = ipc.open_stream(source).read_all().select(wanted)
+                holder = [ipc.open_stream(source).read_all().select(wanted)]
         else:
-            table = feather.read_table(str(path), columns=wanted, memory_map=True)
+            holder = [feather.read_table(str(path), columns=wanted, memory_map=True)]
     except (pa.ArrowException, OSError) as exc:
         raise InputError.single(f"cannot read the Arrow IPC data: {exc}", path) from None
-    return arrays_from_table(table, path, time_columns, numeric, states)
+    return arrays_from_table(holder, path, time_columns, numeric, states)

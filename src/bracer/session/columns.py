@@ -103,12 +103,16 @@ def state_array(col: pa.ChunkedArray) -> np.ndarray:
         return _float_numpy(col.cast(pa.float64()))
     if not (pt.is_string(typ) or pt.is_large_string(typ)):
         col = col.cast(pa.string())
-    stripped = pc.utf8_trim_whitespace(col)
-    blank = pc.fill_null(pc.equal(stripped, ""), True)
-    if not bad_numbers(col).size and not pc.all(blank).as_py():
-        as_null = pc.if_else(blank, pa.scalar(None, pa.string()), stripped)
-        return _float_numpy(as_null.cast(pa.float64()))
-    return np.asarray(pc.fill_null(col, "").to_numpy(zero_copy_only=False), dtype=str)
+    blank = pc.equal(col, "")
+    if pc.any(blank).as_py():  # empty cells are missing values, not text
+        col = pc.if_else(blank, pa.scalar(None, pa.string()), col)
+    if col.null_count < len(col):
+        try:
+            return _float_numpy(col.cast(pa.float64()))  # every value a number
+        except pa.ArrowInvalid:
+            pass
+        return np.asarray(pc.fill_null(col, "").to_numpy(zero_copy_only=False), dtype=str)
+    return np.full(len(col), np.nan)
 
 
 def bad_numbers(col: pa.ChunkedArray) -> np.ndarray:
@@ -122,7 +126,14 @@ def bad_numbers(col: pa.ChunkedArray) -> np.ndarray:
 
 
 def _float_numpy(col: Any) -> np.ndarray:
-    arr = np.asarray(col.to_numpy(), dtype=np.float64)
+    # Several chunks: one numpy concatenation (ChunkedArray.to_numpy over hundreds of CSV blocks is several
+    # times slower), which also gives a writable array the reader may scale in place.
+    if getattr(col, "num_chunks", 1) > 1:
+        arr = np.concatenate([c.to_numpy(zero_copy_only=False) for c in col.chunks]).astype(
+            np.float64, copy=False
+        )
+    else:
+        arr = np.asarray(col.to_numpy(zero_copy_only=False), dtype=np.float64)
     if col.null_count and not np.isnan(arr).any():  # pragma: no cover - pyarrow always maps nulls to NaN
         raise AssertionError("nulls lost in conversion")
     return arr
@@ -170,14 +181,19 @@ class RawTable:
 
 
 def arrays_from_table(
-    table: pa.Table,
+    holder: list[pa.Table],
     path: Path,
     time_columns: list[str],
     numeric: list[str],
     states: list[str],
     locate: Locator = row_locator,
 ) -> RawTable:
-    """Convert the needed columns of ``table``; each Arrow column is released once converted (peak memory)."""
+    """Convert the needed columns of the table in ``holder`` (a one-item list the table is taken out of, so
+    that no caller keeps it alive); each Arrow column is released once converted (peak memory)."""
+    import pyarrow as pa
+
+    pool = pa.default_memory_pool()
+    table = holder.pop()
     raw = RawTable(table.num_rows)
     for name in dict.fromkeys([*time_columns, *numeric, *states]):
         col = table.column(name)
@@ -189,4 +205,5 @@ def arrays_from_table(
             raw.states[name] = state_array(col)
         table = table.drop_columns([name])
         del col
+        pool.release_unused()  # the allocator would otherwise keep the freed column resident for a while
     return raw

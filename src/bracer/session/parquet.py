@@ -28,7 +28,7 @@ def read(path: Path, time_columns: list[str], numeric: list[str], states: list[s
 
     wanted = list(dict.fromkeys([*time_columns, *numeric, *states]))
     try:
-        table = pq.read_table(path, columns=wanted, use_threads=True)
+        holder = [pq.read_table(path, columns=wanted, use_threads=True)]
     except (pa.ArrowException, OSError) as exc:
         raise InputError.single(f"cannot read the Parquet data: {exc}", path) from None
-    return arrays_from_table(table, path, time_columns, numeric, states)
+    return arrays_from_table(holder, path, time_columns, numeric, states)

@@ -16,6 +16,7 @@ from __future__ import annotations
 import dataclasses
 import difflib
 import hashlib
+from collections import Counter
 from collections.abc import Sequence
 from concurrent.futures import ThreadPoolExecutor
 from dataclasses import dataclass
@@ -95,10 +96,13 @@ def read_session(protocol: Protocol, paths: Sequence[str | Path] | str | Path) -
             raw = _read(source, [needs[n] for n in served])
             info = InputFile(str(source.path), digest.result(), source.size, _FORMAT_NAME[source.format])
             inputs.append(info)
+            counts = Counter(c for name in served for c in needs[name].columns())
+            shared = {c for c, k in counts.items() if k > 1}
             for name in served:
-                streams[name] = _stream(needs[name], raw, info, several=len(served) > 1)
+                streams[name] = _stream(needs[name], raw, info, several=len(served) > 1, shared=shared)
             dropped.extend(dataclasses.replace(d, streams=tuple(served)) for d in raw.dropped)
     ordered = {name: streams[name] for name in needs if name in streams}
+    _release_arrow_memory()
     return Session(ordered, tuple(inputs), missing=tuple(missing), dropped=tuple(dropped))
 
 
@@ -267,7 +271,7 @@ def _read(source: _Source, served: list[StreamNeeds]) -> RawTable:
     return arrow_format.read(source.path, times, numeric, states, stream=source.format == "arrow-stream")
 
 
-def _stream(sn: StreamNeeds, raw: RawTable, info: InputFile, several: bool) -> Stream:
+def _stream(sn: StreamNeeds, raw: RawTable, info: InputFile, several: bool, shared: set[str]) -> Stream:
     """Assemble one stream: keep its rows, convert to internal units (the only conversion anywhere)."""
     time = raw.values[sn.time.column]
     rows: np.ndarray | None = None
@@ -284,10 +288,26 @@ def _stream(sn: StreamNeeds, raw: RawTable, info: InputFile, several: bool) -> S
     for use in sn.uses:
         if use.is_state or use.column not in raw.values or use.column in channels:
             continue
-        x = pick(raw.values[use.column])
-        channels[use.column] = x * use.factor if use.factor != 1.0 else x
+        own = use.column not in shared
+        x = pick(raw.values.pop(use.column) if own else raw.values[use.column])  # popped: freed once scaled
+        channels[use.column] = _scaled(x, use.factor, in_place=own or rows is not None)
         units[use.column] = use.unit
     states = {c: pick(raw.states[c]) for c in sn.state_columns() if c in raw.states}
-    t = pick(time)
-    t = t * sn.time.factor if sn.time.factor != 1.0 else t
+    t = _scaled(pick(time), sn.time.factor, in_place=sn.time.column not in shared or rows is not None)
     return Stream(sn.name, info, t, channels, units, sn.rate, states, sn.time.column, rows)
+
+
+def _scaled(x: np.ndarray, factor: float, in_place: bool) -> np.ndarray:
+    """``x`` × ``factor``; in place when allowed (the array is this stream's alone) and writable."""
+    if factor == 1.0:
+        return x
+    if in_place and x.flags.writeable:
+        return np.multiply(x, factor, out=x)
+    return x * factor
+
+
+def _release_arrow_memory() -> None:
+    """Hand the decoded Arrow buffers, now copied or freed, back to the system (peak memory of long logs)."""
+    import pyarrow as pa
+
+    pa.default_memory_pool().release_unused()

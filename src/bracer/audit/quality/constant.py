@@ -11,8 +11,7 @@ import numpy as np
 
 from bracer.audit.context import AuditContext
 from bracer.audit.quality.base import Invalidation, QualityResult, make_finding
-from bracer.audit.quality.channels import logged_channels
-from bracer.audit.quality.timebase import time_valid
+from bracer.audit.quality.channels import extremes, logged_channels, valid_of
 from bracer.findings import Check, Finding, Severity, register
 from bracer.units import format_number
 
@@ -31,20 +30,20 @@ def run(ctx: AuditContext) -> QualityResult:
     findings: list[Finding] = []
     invalid: list[Invalidation] = []
     for ch in logged_channels(ctx):
-        ok = time_valid(ctx, ch.stream) & np.isfinite(ch.x)
-        values = ch.x[ok]
-        if values.size < 2 or values.min() != values.max():
+        ext = extremes(ctx, ch)
+        if ext.count < 2 or ext.lo != ext.hi:
             continue
+        ok = valid_of(ctx, ch)
         idx = np.flatnonzero(ok)
         t = ch.stream.time
-        value = ch.declared(float(values[0]))
+        value = ch.declared(ext.lo)
         invalid.append(Invalidation(ch.stream.name, ch.column, ok))
         findings.append(
             make_finding(
                 CHECK,
                 f"column '{ch.column}' ({ch.use.describe()}) holds one value, {format_number(value)} "
                 f"{ch.use.unit}, "
-                f"in all {values.size} samples: a disconnected or frozen sensor? Treated as not analysed",
+                f"in all {ext.count} samples: a disconnected or frozen sensor? Treated as not analysed",
                 stream=ch.stream.name,
                 subject=ch.use.subject,
                 quantity="constant",

@@ -52,11 +52,10 @@ class Coverage:
 
 def _intervals(t: np.ndarray, valid: np.ndarray, allowed: float) -> tuple[np.ndarray, np.ndarray, float]:
     """Covered intervals [start, end] (s) and their total length, from the valid samples."""
-    idx = np.flatnonzero(valid)
-    if idx.size < 2:
+    tv = t if valid.all() else t[valid]
+    if tv.size < 2:
         empty = np.zeros(0)
         return empty, empty, 0.0
-    tv = t[idx]
     dt = np.diff(tv)
     ok = (dt > 0) & (dt <= allowed * (1 + SLACK))
     first, last = runs(ok)
@@ -121,5 +120,5 @@ def _valid(session: Session, stream: str, column: str) -> np.ndarray | None:
         x = s.states[column]
         tv = session.time_valid.get(stream, np.isfinite(s.time))
         filled = np.isfinite(x) if x.dtype.kind == "f" else (x != "")
-        return filled & tv
+        return tv if filled.all() else filled & tv
     return None

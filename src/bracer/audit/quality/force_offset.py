@@ -12,7 +12,7 @@ import numpy as np
 
 from bracer.audit.context import AuditContext
 from bracer.audit.quality.base import QualityResult, fmt_s, make_finding
-from bracer.audit.quality.motion import joint_motion, rest_on
+from bracer.audit.quality.motion import rest_by_stream, rest_on
 from bracer.audit.quality.runs import mask_of, runs
 from bracer.findings import Check, Finding, Severity, register
 from bracer.units import format_number, parse_unit
@@ -47,8 +47,8 @@ def run(ctx: AuditContext) -> QualityResult:
             )
         )
     standstill = protocol.stop.standstill
-    motions = joint_motion(ctx)
-    if not motions:
+    rests = rest_by_stream(ctx, standstill.speed.si)
+    if rests is None:
         return QualityResult(
             (
                 make_finding(
@@ -61,6 +61,7 @@ def run(ctx: AuditContext) -> QualityResult:
             )
         )
     findings: list[Finding] = []
+    rest_of: dict[str, np.ndarray] = {}
     factor = parse_unit(tol.unit)[0]
     for name, ch in contacts.items():
         stream = ctx.session.streams.get(ch.stream)
@@ -68,7 +69,9 @@ def run(ctx: AuditContext) -> QualityResult:
         if stream is None or stream.n < 2 or any(s is None for s in signals):
             continue  # missing stream or column: Q101 / Q111
         valid = np.logical_and.reduce([s.valid for s in signals if s is not None])
-        rest = rest_on(stream, valid, motions, standstill.speed.si)
+        if ch.stream not in rest_of:  # contacts on one stream share its rest
+            rest_of[ch.stream] = rest_on(stream, rests)
+        rest = rest_of[ch.stream] & valid
         starts, ends = runs(rest)
         t = stream.time
         long = (t[ends] - t[starts]) >= standstill.hold.si

@@ -31,10 +31,10 @@ def run(ctx: AuditContext) -> QualityResult:
     findings: list[Finding] = []
     for stream in ctx.session.streams.values():
         tv = time_valid(ctx, stream)
-        idx = np.flatnonzero(tv)
+        idx = np.arange(stream.n) if tv.all() else np.flatnonzero(tv)
         if idx.size < 2:
             continue
-        t = stream.time[idx]
+        t = stream.time if idx.size == stream.n else stream.time[idx]
         allowed = tol / stream.expected_rate
         dt = np.diff(t)
         at = np.flatnonzero(dt > allowed * (1 + SLACK))

@@ -11,22 +11,10 @@ from __future__ import annotations
 import numpy as np
 
 from bracer.audit.context import AuditContext
-from bracer.audit.quality.timebase import time_valid
+from bracer.audit.quality.timebase import median_step, time_valid
 from bracer.session.model import Stream
 
-__all__ = ["JointMotion", "joint_motion", "position_rate", "rest_on"]
-
-
-class JointMotion:
-    """A joint's speed magnitude (rad/s) on its stream's valid samples, sorted by time."""
-
-    __slots__ = ("joint", "speed", "stream", "t")
-
-    def __init__(self, joint: str, stream: str, t: np.ndarray, speed: np.ndarray) -> None:
-        self.joint = joint
-        self.stream = stream
-        self.t = t  # shape (m,), increasing
-        self.speed = speed  # shape (m,), NaN where unknown
+__all__ = ["position_rate", "rate_samples", "rest_by_stream", "rest_on"]
 
 
 def position_rate(t: np.ndarray, x: np.ndarray, valid: np.ndarray, window: float) -> np.ndarray:
@@ -42,60 +30,106 @@ def position_rate(t: np.ndarray, x: np.ndarray, valid: np.ndarray, window: float
         Width of the centred difference, s.
     """
     out = np.full(x.shape, np.nan)
-    idx = np.flatnonzero(valid & np.isfinite(x))
-    if idx.size < 3:
+    ok = valid & np.isfinite(x)
+    whole = bool(ok.all())
+    idx = None if whole else np.flatnonzero(ok)
+    tv, xv = (t, x) if idx is None else (t[idx], x[idx])
+    if tv.size < 3:
         return out
-    tv, xv = t[idx], x[idx]
-    step = float(np.median(np.diff(tv)))
+    step = median_step(tv)
     k = max(1, round(window / step / 2)) if step > 0 else 1
-    if idx.size <= 2 * k:
+    if tv.size <= 2 * k:
         return out
     span = tv[2 * k :] - tv[: -2 * k]
     rate = (xv[2 * k :] - xv[: -2 * k]) / span
     # a window across a gap or a jump of the clock measures nothing: leave it out
-    regular = np.abs(span - 2 * k * step) <= 0.25 * 2 * k * step
-    out[idx[k:-k]] = np.where(regular, rate, np.nan)
+    rate[np.abs(span - 2 * k * step) > 0.25 * 2 * k * step] = np.nan
+    if idx is None:
+        out[k:-k] = rate
+    else:
+        out[idx[k:-k]] = rate
     return out
 
 
-def joint_motion(ctx: AuditContext) -> list[JointMotion]:
-    """Speed of every joint that logs a velocity or a position (velocity preferred)."""
-    protocol = ctx.resolution.protocol
-    window = protocol.audit.derivative_window.si
-    out: list[JointMotion] = []
-    for name, joint in protocol.joints.items():
-        ch = joint.channels
-        for ref, derive in ((ch.velocity, False), (ch.position, True)):
-            if ref is None:
-                continue
-            sig = ctx.session.signal(ref.stream, ref.column)
-            stream = ctx.session.streams.get(ref.stream)
-            if sig is None or stream is None:
-                continue
-            tv = time_valid(ctx, stream)
-            speed = np.abs(
-                position_rate(sig.t, sig.x, sig.valid, window)
-                if derive
-                else np.where(sig.valid, sig.x, np.nan)
-            )
-            out.append(JointMotion(name, ref.stream, sig.t[tv], speed[tv]))
-            break
-    return out
+def rate_samples(
+    t: np.ndarray, x: np.ndarray, valid: np.ndarray, window: float, count: int
+) -> tuple[np.ndarray, np.ndarray]:
+    """The rate of change of ``x`` (as :func:`position_rate`) at about ``count`` evenly spread samples.
 
-
-def rest_on(stream: Stream, valid: np.ndarray, motions: list[JointMotion], threshold: float) -> np.ndarray:
-    """True at samples of ``stream`` where every joint's last known speed is below ``threshold`` (rad/s).
-
-    A joint whose speed is unknown at that time (before its first sample, NaN) counts as not at rest.
+    Returns
+    -------
+    idx : ndarray of int, shape (m,)
+        Sample indices.
+    rate : ndarray, shape (m,)
+        Rate of change there (NaN where the window spans a gap).
     """
+    if not (valid.all() and np.isfinite(x).all()):
+        full = position_rate(t, x, valid, window)
+        idx = np.flatnonzero(np.isfinite(full))
+        idx = idx[:: max(1, idx.size // count)]
+        return idx, full[idx]
+    step = median_step(t)
+    k = max(1, round(window / step / 2)) if step > 0 else 1
+    if t.size <= 2 * k:
+        return np.zeros(0, dtype=np.int64), np.zeros(0)
+    idx = np.arange(k, t.size - k, max(1, (t.size - 2 * k) // count))
+    span = t[idx + k] - t[idx - k]
+    rate = (x[idx + k] - x[idx - k]) / span
+    rate[np.abs(span - 2 * k * step) > 0.25 * 2 * k * step] = np.nan
+    return idx, rate
+
+
+def _speed(ctx: AuditContext, joint: str, window: float) -> tuple[str, np.ndarray] | None:
+    """A joint's speed magnitude (rad/s) on its stream, NaN where unknown; velocity preferred to position."""
+    ch = ctx.resolution.protocol.joints[joint].channels
+    for ref, derive in ((ch.velocity, False), (ch.position, True)):
+        if ref is None:
+            continue
+        sig = ctx.session.signal(ref.stream, ref.column)
+        if sig is None:
+            continue
+        if derive:
+            return ref.stream, np.abs(position_rate(sig.t, sig.x, sig.valid, window))
+        return ref.stream, np.where(sig.valid, np.abs(sig.x), np.nan)
+    return None
+
+
+def rest_by_stream(ctx: AuditContext, threshold: float) -> dict[str, tuple[np.ndarray, np.ndarray]] | None:
+    """Per joint stream: the valid times (increasing) and whether every joint on it is below ``threshold``.
+
+    None when no joint logs a velocity or a position.  A joint whose speed is unknown counts as moving.
+    """
+    window = ctx.resolution.protocol.audit.derivative_window.si
+    still: dict[str, np.ndarray] = {}
+    for joint in ctx.resolution.protocol.joints:
+        found = _speed(ctx, joint, window)
+        if found is None:
+            continue
+        name, speed = found
+        below = speed < threshold  # NaN compares False: unknown is not rest
+        still[name] = still[name] & below if name in still else below
+    if not still:
+        return None
+    out: dict[str, tuple[np.ndarray, np.ndarray]] = {}
+    for name, mask in still.items():
+        s = ctx.session.streams[name]
+        tv = time_valid(ctx, s)
+        out[name] = (s.time, mask & tv) if tv.all() else (s.time[tv], mask[tv])
+    return out
+
+
+def rest_on(stream: Stream, rests: dict[str, tuple[np.ndarray, np.ndarray]]) -> np.ndarray:
+    """True at the samples of ``stream`` where every joint stream is at rest (its last sample at or before
+    that time).  Before a joint stream's first or after its last sample there is no rest."""
     t = stream.time
-    rest = valid.copy()
-    for m in motions:
-        if m.t.size == 0:
+    rest = np.ones(t.shape, dtype=bool)
+    for name, (tj, still) in rests.items():
+        if tj.size == 0:
             return np.zeros(t.shape, dtype=bool)
-        k = np.searchsorted(m.t, np.where(np.isfinite(t), t, -np.inf), side="right") - 1
-        inside = (k >= 0) & (t <= m.t[-1] + 1e-12)
-        speed = m.speed[np.clip(k, 0, m.t.size - 1)]
-        with np.errstate(invalid="ignore"):
-            rest &= inside & (speed < threshold)
+        if name == stream.name and tj.size == t.size:
+            rest &= still
+            continue
+        k = np.searchsorted(tj, np.where(np.isfinite(t), t, -np.inf), side="right") - 1
+        inside = (k >= 0) & (t <= tj[-1] + 1e-12)
+        rest &= inside & still[np.clip(k, 0, tj.size - 1)]
     return rest

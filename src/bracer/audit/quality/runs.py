@@ -16,9 +16,14 @@ MAX_FINDINGS_PER_CHANNEL = 20
 
 def runs(mask: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
     """First and last index (inclusive) of each run of True in ``mask`` (shape (n,)), from run boundaries."""
-    if mask.size == 0:
+    count = int(np.count_nonzero(mask))
+    if count == 0:
         empty = np.zeros(0, dtype=np.int64)
         return empty, empty
+    if count < mask.size // 8:  # sparse: group the True indices (cheaper than a full-length diff)
+        idx = np.flatnonzero(mask)
+        breaks = np.flatnonzero(np.diff(idx) != 1)
+        return idx[np.r_[0, breaks + 1]], idx[np.r_[breaks, idx.size - 1]]
     edges = np.diff(mask.view(np.int8) if mask.dtype == bool else mask.astype(np.int8), prepend=0, append=0)
     starts = np.flatnonzero(edges == 1)
     ends = np.flatnonzero(edges == -1) - 1

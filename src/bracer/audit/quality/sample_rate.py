@@ -38,7 +38,10 @@ def run(ctx: AuditContext) -> QualityResult:
         if tm.rate is None or tm.jitter is None or tm.t_first is None or tm.t_last is None:
             continue
         span: dict[str, Any] = {
-            "t_start": tm.t_first, "t_end": tm.t_last, "i_start": 0, "i_end": stream.n - 1
+            "t_start": tm.t_first,
+            "t_end": tm.t_last,
+            "i_start": 0,
+            "i_end": stream.n - 1,
         }
         declared = stream.expected_rate
         if abs(tm.rate / declared - 1) > RATE_TOLERANCE:

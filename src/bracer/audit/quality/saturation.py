@@ -15,9 +15,8 @@ import numpy as np
 
 from bracer.audit.context import AuditContext
 from bracer.audit.quality.base import Invalidation, QualityResult, fmt_s, make_finding
-from bracer.audit.quality.channels import LoggedChannel, logged_channels
+from bracer.audit.quality.channels import LoggedChannel, extremes, logged_channels, valid_of
 from bracer.audit.quality.runs import capped, mask_of, runs
-from bracer.audit.quality.timebase import time_valid
 from bracer.findings import Check, Finding, Severity, register
 from bracer.units import format_number
 
@@ -48,18 +47,18 @@ def run(ctx: AuditContext) -> QualityResult:
     for ch in logged_channels(ctx):
         if ch.use.role not in ROLES:
             continue
-        ok = time_valid(ctx, ch.stream) & np.isfinite(ch.x)
-        if ok.sum() < 2:
-            continue
-        values = ch.x[ok]
-        lo, hi = float(values.min()), float(values.max())
-        if lo == hi:
-            continue  # constant: Q107
+        ext = extremes(ctx, ch)
+        if ext.count < 2 or ext.lo == ext.hi:
+            continue  # nothing to judge, or constant: Q107
+        ok = valid_of(ctx, ch)
+        every = ext.count == ok.size
         flagged = np.zeros(ch.x.shape, dtype=bool)
-        for end, value in (("largest", hi), ("smallest", lo)):
+        for end, value in (("largest", ext.hi), ("smallest", ext.lo)):
             if value == 0.0:
                 continue
-            plateau = ok & (ch.x == value)
+            plateau = ch.x == value if every else ok & (ch.x == value)
+            if np.count_nonzero(plateau) < min_run(ch.stream.expected_rate):
+                continue
             starts, ends = runs(plateau)
             long = (ends - starts + 1) >= min_run(ch.stream.expected_rate)
             starts, ends = starts[long], ends[long]

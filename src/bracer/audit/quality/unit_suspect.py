@@ -25,9 +25,9 @@ import numpy as np
 
 from bracer.audit.context import AuditContext
 from bracer.audit.quality.base import Invalidation, QualityResult, make_finding
-from bracer.audit.quality.channels import LoggedChannel, logged_channels
-from bracer.audit.quality.motion import position_rate
-from bracer.audit.quality.timebase import time_valid
+from bracer.audit.quality.channels import LoggedChannel, extremes, logged_channels, valid_of
+from bracer.audit.quality.motion import rate_samples
+from bracer.audit.quality.timebase import median_step, time_valid
 from bracer.findings import Check, Finding, Severity, register
 from bracer.protocol.model import Protocol
 from bracer.units import Quantity, format_number
@@ -57,6 +57,7 @@ PLAUSIBLE = 50.0  # torque/force peaks above this multiple of the largest declar
 SPAN_FRACTION = 0.05  # a position moving less than this fraction of the joint's declared range
 RATIO_BOUNDS = (0.67, 1.5)  # velocity / rate of change of position
 MIN_MOVING = 50  # samples of clear motion needed to compare velocity and position
+SAMPLED = 100_000  # at most about this many of them enter the median
 
 
 def named_factor(ratio: float, within: float = 0.15) -> str | None:
@@ -85,11 +86,7 @@ def _time(ctx: AuditContext) -> list[tuple[Finding, Invalidation]]:
         t = stream.time[tv]
         if t.size < 10:
             continue
-        dt = np.diff(t)
-        dt = dt[dt > 0]
-        if dt.size < 5:
-            continue
-        ratio = float(np.median(dt)) * stream.expected_rate
+        ratio = median_step(t) * stream.expected_rate
         words = named_factor(ratio, 0.1)
         if words is None or abs(ratio - 1) < 0.5:
             continue
@@ -147,7 +144,7 @@ def _channels(ctx: AuditContext) -> list[tuple[Finding, Invalidation]]:
 
 
 def _mask(ctx: AuditContext, ch: LoggedChannel) -> np.ndarray:
-    return time_valid(ctx, ch.stream) & np.isfinite(ch.x)
+    return valid_of(ctx, ch)
 
 
 def _whole(
@@ -184,11 +181,11 @@ def _position(
     has_velocity: bool,
     locked: bool,
 ) -> list[tuple[Finding, Invalidation]]:
-    values = ch.x[_mask(ctx, ch)]
-    if values.size < 2:
+    ext = extremes(ctx, ch)
+    if ext.count < 2:
         return []
     unit = ch.use.unit
-    biggest = float(np.abs(values).max())
+    biggest = max(abs(ext.lo), abs(ext.hi))
     if math.isclose(ch.use.factor, 1.0) and biggest > 2 * math.pi:
         return [
             _whole(
@@ -208,7 +205,7 @@ def _position(
     if bounds is None:
         return []
     width = bounds.max.si - bounds.min.si
-    span = float(values.max() - values.min())
+    span = ext.hi - ext.lo
     as_radians = span * 180 / math.pi
     if (
         0 < span < SPAN_FRACTION * width
@@ -240,18 +237,19 @@ def _velocity(
     if pos.stream is not vel.stream:
         return []
     window = protocol.audit.derivative_window.si
-    rate = position_rate(pos.stream.time, pos.x, _mask(ctx, pos), window)
-    v = np.where(_mask(ctx, vel), vel.x, np.nan)
-    both = np.isfinite(rate) & np.isfinite(v)
-    if both.sum() < MIN_MOVING:
+    # evenly spread samples: a median needs no hour of them
+    idx, rate = rate_samples(pos.stream.time, pos.x, _mask(ctx, pos), window, SAMPLED)
+    keep = np.isfinite(rate) & _mask(ctx, vel)[idx]
+    idx, rate = idx[keep], rate[keep]
+    if idx.size < MIN_MOVING:
         return []
     threshold = max(
-        protocol.stop.standstill.speed.si if protocol.stop else 0.0, 0.05 * float(np.abs(rate[both]).max())
+        protocol.stop.standstill.speed.si if protocol.stop else 0.0, 0.05 * float(np.abs(rate).max())
     )
-    moving = both & (np.abs(rate) > threshold)
-    if moving.sum() < MIN_MOVING:
+    moving = np.abs(rate) > threshold
+    if np.count_nonzero(moving) < MIN_MOVING:
         return []
-    ratio = float(np.median(v[moving] / rate[moving]))  # the median: robust to a few bad windows
+    ratio = float(np.median(vel.x[idx[moving]] / rate[moving]))  # the median: robust to a few bad windows
     lo, hi = RATIO_BOUNDS
     if lo <= ratio <= hi:
         return []
@@ -292,9 +290,10 @@ def _magnitude(
     ctx: AuditContext, ch: LoggedChannel, protocol: Protocol
 ) -> list[tuple[Finding, Invalidation]]:
     limit = _largest_limit(ch, protocol)
-    values = np.abs(ch.x[_mask(ctx, ch)])
-    if limit is None or values.size < 20:
+    ext = extremes(ctx, ch)
+    if limit is None or ext.count < 20 or max(abs(ext.lo), abs(ext.hi)) <= PLAUSIBLE * limit.si:
         return []
+    values = np.abs(ch.x[_mask(ctx, ch)])
     k = min(10, values.size)
     robust = float(np.partition(values, values.size - k)[values.size - k])  # the k-th largest
     if robust <= PLAUSIBLE * limit.si:
