@@ -178,7 +178,8 @@ def test_gap_in_the_log_is_the_truths_gap(full_session: SimulationOutput) -> Non
 def test_stop_latency_and_distance_are_the_closed_form(
     full_session: SimulationOutput, example: LoadedProtocol
 ) -> None:
-    # t = t_r + v0/a and d = v0·t_r + v0²/(2a) per joint (REFERENCES.md, stopping performance [V]).
+    # t = t_r + v0/a and d = v0·t_r + v0²/(2a) per joint (REFERENCES.md, stopping performance [V]); below the
+    # standstill speed v_s from t_r + (v0 − v_s)/a (same kinematics), the latency the protocol budgets.
     protocol = example.protocol
     assert protocol.stop is not None
     for e in full_session.truth.incidents:
@@ -193,8 +194,16 @@ def test_stop_latency_and_distance_are_the_closed_form(
             assert j.distance == pytest.approx(
                 math.degrees(abs(v0) * stop.reaction_time + v0**2 / (2 * a)), rel=1e-12
             )
+            v_s = protocol.stop.standstill.speed.si
+            assert j.latency_to_standstill_speed == pytest.approx(
+                stop.reaction_time + (abs(v0) - v_s) / a, rel=1e-12
+            )
         assert stop.latency == pytest.approx(max(j.latency for j in stop.joints))
-        assert e.peak == pytest.approx(stop.latency * 1000) and e.unit == "ms"
+        assert stop.latency_to_standstill_speed == pytest.approx(
+            max(j.latency_to_standstill_speed for j in stop.joints)
+        )
+        assert e.peak == pytest.approx(stop.latency_to_standstill_speed * 1000) and e.unit == "ms"
+        assert e.t_end == pytest.approx(stop.t_trigger + stop.latency_to_standstill_speed)
     estop = next(
         e
         for e in full_session.truth.incidents
@@ -205,7 +214,7 @@ def test_stop_latency_and_distance_are_the_closed_form(
     )
     assert estop.stop is not None and slow.stop is not None
     assert estop.stop.reaction_time == protocol.stop.reaction_time.si and not estop.exceeds
-    assert slow.peak == pytest.approx(1.3 * 300.0) and slow.exceeds
+    assert slow.stop.latency == pytest.approx(1.3 * 0.300) and slow.exceeds  # to zero speed: 1.3 × budget
     assert slow.stop.trigger == "protective_stop"
 
 
@@ -428,3 +437,17 @@ def test_truth_json_reads_back(full_session: SimulationOutput) -> None:
     for key in ("subject", "quantity", "kind", "t_start", "t_end", "t_peak", "peak", "limit", "unit"):
         assert key in first
     assert data["parameters"]["body_mass"] == 70.0 and data["parameters"]["height"] == 1.70
+
+
+def test_logged_values_sit_on_their_channels_steps(full_session: SimulationOutput) -> None:
+    # Quantisation survives the conversion to the declared unit: every logged reading is a whole number of
+    # steps (a 17-bit encoder's 360/2¹⁷ deg, 0.01 deg/s, 100 N·m/2¹⁶, 1000 N/2¹⁶).
+    for info in full_session.truth.channels:
+        if info.step == 0:
+            continue
+        values = _table(full_session, info.stream).column(info.column).to_numpy()
+        steps = values / info.step
+        np.testing.assert_allclose(steps, np.round(steps), atol=1e-6, err_msg=info.column)
+    steps = {c.column: c.step for c in full_session.truth.channels}
+    assert steps["elb_pos"] == pytest.approx(360 / 2**17) and steps["elb_vel"] == pytest.approx(0.01)
+    assert steps["elb_tau"] == pytest.approx(100 / 2**16) and steps["ua_fz"] == pytest.approx(1000 / 2**16)

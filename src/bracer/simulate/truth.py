@@ -4,8 +4,9 @@ Times are seconds on the log's clock; ``i_start``/``i_end``/``i_peak`` are row n
 excluded) of the stream file the quantity is logged in, after any gap has been cut out.  Peaks and limits are
 in the unit the protocol declared for the limit.  Spans are taken from the noise-free signal on the stream's
 own samples: ``t_start`` is the first sample past the limit (for a near miss: inside its band), ``t_end`` the
-last.  For a stop, the latency and distance are the closed form t = t_r + v0/a, d = v0·t_r + v0²/(2a) of each
-braking joint.
+last.  For a stop, each braking joint's latency and distance are the closed form t = t_r + v0/a,
+d = v0·t_r + v0²/(2a); the stop_latency entry's peak is the protocol's latency, from the request until every
+joint is below the standstill speed, t_r + (v0 − v_s)/a for the slowest joint.
 """
 
 from __future__ import annotations
@@ -522,9 +523,11 @@ def _stop(plan: Plan, inc: Incident, d: StopDetail) -> list[TruthEntry]:
         stop.latency_budget.si,
         tuple(joints),
     )
+    # The entry's latency is the protocol's: from the request until every joint is below the standstill speed
+    # (t_r + (v0 − v_s)/a for the slowest joint); the time to zero speed, t_r + v0/a, is in ``stop.latency``.
     k_trig = clock.index_at_or_after(d.t_trigger - 1e-9)
-    k_end = min(clock.n - 1, round((d.t_trigger + latency - clock.start) * clock.rate))
-    span = _Span(k_trig, k_end, k_end, d.t_trigger, d.t_trigger + latency, d.t_trigger + latency)
+    k_end = min(clock.n - 1, round((d.t_trigger + to_threshold - clock.start) * clock.rate))
+    span = _Span(k_trig, k_end, k_end, d.t_trigger, d.t_trigger + to_threshold, d.t_trigger + to_threshold)
     budget = stop.latency_budget
     out = [
         _entry(
@@ -535,7 +538,7 @@ def _stop(plan: Plan, inc: Incident, d: StopDetail) -> list[TruthEntry]:
             trig.stream,
             (trig.column,),
             span,
-            latency,
+            to_threshold,
             budget,
             budget.unit,
             layer="latency_budget",
