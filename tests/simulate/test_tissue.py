@@ -59,3 +59,31 @@ def test_held_push_force_is_k_times_depth() -> None:
     push = Push("cuff", 0.0, 0.5, 10.0, 0.5, depth)
     delta, rate = push.displacement(np.array([2.0, 5.0]))
     np.testing.assert_allclose(tissue.force(delta, rate), [36.0, 36.0])
+
+
+def test_cuff_force_follows_the_limb_lagging_the_device(example) -> None:  # type: ignore[no-untyped-def]
+    # The forearm cuff of the example protocol: lever arms 0.18 m to the elbow and 0.45 m to shoulder flexion
+    # (both load its normal axis; forearm rotation is 'not modelled'); the limb follows the device
+    # tracking_lag later, so δ = Σ r·(q(t) − q(t − lag)) and F = k·δ + c·δ̇ with k = 40 N/mm and m_H = 2 kg
+    # (ISO/TS 15066 Annex A Table A.3, lower arm and wrist, [C2]) and c = 2ζ√(k·m_H).
+    from bracer.protocol.resolve import resolve
+    from bracer.simulate.envelope import build_envelope
+    from bracer.simulate.params import SimulationParameters
+    from bracer.simulate.planner import make_plan
+
+    params = SimulationParameters()
+    plan = make_plan(
+        build_envelope(resolve(example.protocol), params.tissue_damping_ratio), params, [], 60.0, 4
+    )
+    t = plan.clocks["cuffs"].times()
+    q, qd, _ = plan.physics.motion(t)
+    q_lag, qd_lag, _ = plan.physics.motion(t - params.tracking_lag)
+    names = plan.joint_names
+    e, s = names.index("elbow_flexion"), names.index("shoulder_flexion")
+    delta = 0.18 * (q[:, e] - q_lag[:, e]) + 0.45 * (q[:, s] - q_lag[:, s])
+    rate = 0.18 * (qd[:, e] - qd_lag[:, e]) + 0.45 * (qd[:, s] - qd_lag[:, s])
+    k, c = 40_000.0, 2 * params.tissue_damping_ratio * math.sqrt(40_000.0 * 2.0)
+    parts = plan.physics.cuff_components(plan.envelope.contacts["forearm_cuff"], t)
+    np.testing.assert_allclose(parts["normal"], k * delta + c * rate, rtol=1e-12, atol=1e-12)
+    assert np.all(parts["axial"] == 0) and np.all(parts["lateral"] == 0)  # no abduction lever on this cuff
+    assert 2.0 < np.abs(parts["normal"]).max() < 40.0  # a few newtons to a few tens while the arm moves
