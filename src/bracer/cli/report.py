@@ -25,13 +25,17 @@ def report(
     participant: str | None = typer.Option(
         None, "--participant", "-p", help="Participant code; default: the nominal protocol or the records'."
     ),
-    session: str | None = typer.Option(None, "--session", help="Session identifier, carried into the report."),
+    session: str | None = typer.Option(
+        None, "--session", help="Session identifier, carried into the report."
+    ),
     session_date: str | None = typer.Option(
         None, "--session-date", help="Date of the session (YYYY-MM-DD) for the title block."
     ),
     from_json: list[Path] | None = typer.Option(  # noqa: B008
-        None, "--from-json", help="A review or audit record (bracer review/audit --json) to report instead of "
-        "running that analysis; may be given twice (one review, one audit)."
+        None,
+        "--from-json",
+        help="A review or audit record (bracer review/audit --json) to report instead of "
+        "running that analysis; may be given twice (one review, one audit).",
     ),
     formats: str = typer.Option(
         "md,html,pdf,json", "--format", "-f", help="Comma-separated: md, html, pdf, json (or all)."

@@ -18,7 +18,9 @@ def verify(
     # typer declares arguments and options as default values; B008 does not apply to them.
     report: Path = typer.Argument(..., help="A report's JSON record (or a review or audit record)."),  # noqa: B008
     root: Path | None = typer.Option(  # noqa: B008
-        None, "--root", help="Folder that relative input paths are resolved against; default: the current one."
+        None,
+        "--root",
+        help="Folder that relative input paths are resolved against; default: the current one.",
     ),
 ) -> None:
     """Recompute the SHA-256 of each input the report names; say which match, which differ and which are
@@ -35,14 +37,19 @@ def verify(
     for c in result.checks:
         line = f"{c.status.upper():<{width}}  {c.role}: {c.path}"
         if c.status == "differs":
-            line += f"\n{'':<{width}}  recorded sha256 {c.expected}\n{'':<{width}}  found    sha256 {c.actual}"
+            line += (
+                f"\n{'':<{width}}  recorded sha256 {c.expected}\n{'':<{width}}  found    sha256 {c.actual}"
+            )
         elif c.status == "missing":
             line += f" (looked for {c.resolved})"
         elif c.status == "unreadable":
             line += f" ({c.detail})"
         print(line)
-    counts = ", ".join(f"{result.count(s)} {s}" for s in ("match", "differs", "missing", "unreadable")
-                       if result.count(s) or s == "match")
+    counts = ", ".join(
+        f"{result.count(s)} {s}"
+        for s in ("match", "differs", "missing", "unreadable")
+        if result.count(s) or s == "match"
+    )
     print(f"{len(result.checks)} input(s) of {result.report}: {counts}")
     if not result.all_match:
         print("The inputs are not all the ones this record was made from.")

@@ -14,6 +14,7 @@ from typing import Any
 
 from rich import box
 from rich.console import Console, Group, RenderableType
+from rich.measure import Measurement
 from rich.table import Table
 from rich.text import Text
 
@@ -129,7 +130,16 @@ def _where(f: Finding) -> str:
     return f"stream {stream}" if stream else "session"
 
 
-def _findings(result: AuditResult, decimals: int) -> RenderableType:
+_FIGURES = ("#", "severity", "code", "start s", "end s", "peak at s", "peak", "limit", "margin", "unit")
+_WORDS = ("kind", "subject", "quantity")
+
+
+def _findings(result: AuditResult, decimals: int, console: Console) -> RenderableType:
+    """A table of the figures, one numbered row per finding, then the messages by number at full width.
+
+    No cell is ever cut or wrapped: a terminal too narrow for the whole table gets the same figures as one
+    block per finding.
+    """
     counts = {s: sum(f.severity == s for f in result.findings) for s in Severity}
     title = (
         f"Findings: {len(result.findings)}  ({counts[Severity.ERROR]} error · {counts[Severity.WARNING]} "
@@ -137,23 +147,6 @@ def _findings(result: AuditResult, decimals: int) -> RenderableType:
     )
     if not result.findings:
         return Group(Text(title, style="bold"), _t("  none", "dim"))
-    table = _table(
-        "severity",
-        "code",
-        "kind",
-        "subject",
-        "quantity",
-        "start s",
-        "end s",
-        "peak at s",
-        "peak",
-        "limit",
-        "margin",
-        "unit",
-        "message",
-        title=title,
-        wrap=("message",),
-    )
 
     def time(x: float | None) -> str:
         return "–" if x is None else f"{x:.{decimals}f}"
@@ -161,24 +154,64 @@ def _findings(result: AuditResult, decimals: int) -> RenderableType:
     ordered = sorted(
         result.findings, key=lambda f: (-f.severity, f.t_start if f.t_start is not None else -1e300)
     )
-    for f in ordered:
-        label, style = _MARK[f.severity]
-        table.add_row(
-            _t(label, style),
-            _t(f.code),
-            _t(_KIND.get(f.kind, f.kind.value)),
-            _t(_where(f)),
-            _t(f.quantity or "–"),
-            _t(time(f.t_start)),
-            _t(time(f.t_end)),
-            _t(time(f.t_peak)),
-            _t(_num(f.peak)),
-            _t(_num(f.limit)),
-            _t(_num(f.margin)),
-            _t(f.unit or ""),
-            _t(f.message),
+    rows = [
+        {
+            "#": str(n),
+            "severity": _MARK[f.severity][0],
+            "code": f.code,
+            "kind": _KIND.get(f.kind, f.kind.value),
+            "subject": _where(f),
+            "quantity": f.quantity or "–",
+            "start s": time(f.t_start),
+            "end s": time(f.t_end),
+            "peak at s": time(f.t_peak),
+            "peak": _num(f.peak),
+            "limit": _num(f.limit),
+            "margin": _num(f.margin),
+            "unit": f.unit or "",
+        }
+        for n, f in enumerate(ordered, start=1)
+    ]
+    columns = ("#", "severity", "code", *_WORDS, *_FIGURES[3:])
+    table = Table(
+        box=box.SIMPLE_HEAD,
+        show_edge=False,
+        pad_edge=False,
+        title=title,
+        title_justify="left",
+        title_style="bold",
+        header_style="bold",
+    )
+    for col in columns:
+        table.add_column(col, no_wrap=True)
+    for f, r in zip(ordered, rows, strict=True):
+        table.add_row(*(_t(r[c], _MARK[f.severity][1] if c == "severity" else "") for c in columns))
+    if Measurement.get(console, console.options, table).maximum > console.width:  # would be squeezed
+        return _finding_blocks(title, ordered, rows)
+    notes = Table(box=None, show_header=False, pad_edge=False, padding=(0, 1, 0, 0))
+    notes.add_column(no_wrap=True, justify="right")
+    notes.add_column(no_wrap=True)
+    notes.add_column(ratio=1)
+    for n, f in enumerate(ordered, start=1):
+        notes.add_row(_t(n), _t(f"{f.code} {f.name}", "dim"), _t(f.message))
+    return Group(table, Text(""), notes)
+
+
+def _finding_blocks(title: str, ordered: list[Finding], rows: list[dict[str, str]]) -> RenderableType:
+    """The findings one block each, for a terminal too narrow for the table (same figures, same order)."""
+    lines: list[RenderableType] = [Text(title, style="bold")]
+    for f, r in zip(ordered, rows, strict=True):
+        head = Text()
+        head.append(f"{r['#']:>3} ")
+        head.append(r["severity"], style=_MARK[f.severity][1])
+        head.append(f"  {f.code} {f.name} · {r['kind']} · {r['subject']} · {r['quantity']}")
+        unit = f" {r['unit']}" if r["unit"] else ""
+        figures = (
+            f"      {r['start s']} – {r['end s']} s · peak {r['peak']}{unit} at {r['peak at s']} s · "
+            f"limit {r['limit']}{unit} · margin {r['margin']}{unit}"
         )
-    return table
+        lines += [head, _t(figures), _t(f"      {f.message}")]
+    return Group(*lines)
 
 
 def _coverage(result: AuditResult) -> RenderableType:
@@ -265,7 +298,7 @@ def render_audit(result: AuditResult, console: Console, fail_on: Severity | None
     parts: list[RenderableType | None] = [
         _header(result),
         _streams(result, decimals),
-        _findings(result, decimals),
+        _findings(result, decimals, console),
         _coverage(result),
         _summary(result.summary),
         _statement(result, fail_on),

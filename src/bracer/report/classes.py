@@ -197,8 +197,11 @@ def _summary(
         head = f"no exceedance found in the analysed data ({analysed})"
     if near:
         head += f"; {plural(near, 'near miss', 'near misses')}"
-    warned = [f for f in rows if f.kind not in ("violation", "near_miss", "not_assessable")
-              and f.severity in ("warning", "error")]
+    warned = [
+        f
+        for f in rows
+        if f.kind not in ("violation", "near_miss", "not_assessable") and f.severity in ("warning", "error")
+    ]
     if warned:
         head += f"; {plural(len(warned), 'further warning')} ({', '.join(f.ref for f in warned)})"
     if na:

@@ -74,8 +74,9 @@ def verify_record(report: str | Path, root: str | Path | None = None) -> Verific
         raise InputError.single("--root is not a folder", base)
     inputs = rec.data["inputs"]
     if not inputs:
-        raise InputError.single("the record names no input file, so there is nothing to verify", report,
-                                field="inputs")
+        raise InputError.single(
+            "the record names no input file, so there is nothing to verify", report, field="inputs"
+        )
     checks = tuple(
         _check(str(i.get("role") or "input"), str(i["path"]), str(i["sha256"]), base) for i in inputs
     )
