@@ -243,8 +243,7 @@ def _joint(
         if hi - lo < math.radians(5.0):  # a narrow range: use its middle half
             span = hi_q.si - lo_q.si
             lo, hi = lo_q.si + span / 4, hi_q.si - span / 4
-        span_t = hi - lo
-        rest = min(max(0.0, lo + 0.1 * span_t), hi - 0.1 * span_t)
+        rest = min(max(0.0, lo), hi)  # the anatomical neutral, or the therapy end nearest to it
     else:
         lo = hi = rest = 0.0
     is_locked = name in locked

@@ -104,8 +104,8 @@ def _schedule(
     needed = _SETTLE + _TAIL + sum(b.duration for b in incident_blocks)
     if needed > duration:
         raise SimulationError(
-            f"the scripted incidents need at least {math.ceil(needed)} s of session; --duration gives "
-            f"{format_number(duration)} s"
+            f"the scripted incidents need at least {math.ceil(needed)} s of session, and the session is "
+            f"{format_number(duration)} s long: make it longer or script fewer incidents"
         )
     spacing = (duration - needed) / (len(incident_blocks) + 1)
     blocks: list[Block] = [HoldBlock(_SETTLE)]
@@ -234,12 +234,16 @@ def make_plan(
                 je = envelope.joints[joint]
                 tau = float(physics.torques(grid[k : k + 1])[0, int(worst_joint[k])])
                 sense: Direction = "positive" if tau >= 0 else "negative"
+                incident = getattr(blocks[b], "item", None) is not None
+                hint = ", or give the incident another subject (--incident NAME:SUBJECT)" if incident else ""
                 raise SimulationError(
                     f"{_describe(blocks[b])} would need {format_number(tau)} N*m at joint '{joint}' "
                     f"(t = {format_number(float(grid[k]))} s), within two near-miss bands of its "
                     f"{je.torque_layer} torque limit {je.torque_limit(sense)}; the body and device are "
-                    "too heavy for this limit: lower body mass or height, or give the incident another "
-                    "subject (--incident NAME:SUBJECT)"
+                    f"too heavy for this limit: lower the body mass, height or device link masses{hint}"
                 )
             scales[b] *= max(0.3, min(0.8, 0.9 / per_block[b]))
-    raise SimulationError("could not keep the therapy movements clear of the torque limits; lower body mass")
+    raise SimulationError(
+        "could not keep the therapy movements clear of the torque limits; lower the body mass, height or "
+        "device link masses"
+    )
