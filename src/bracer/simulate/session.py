@@ -124,6 +124,8 @@ _NOTES = (
     "Spans are taken from the noise-free signal; the logged values add each channel's offset, noise and "
     "quantisation (see channels).",
     "The safety_state trigger, if logged, stays at its normal value; only the scripted trigger changes.",
+    "parameters are in SI units (kg, m, s, rad, rad/s, N*m, N); channels give each column's sensor model in "
+    "the column's declared unit.",
 )
 
 
