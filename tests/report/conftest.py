@@ -16,7 +16,8 @@ from reportkit import KitSession, build, inside, make_kit  # noqa: E402
 
 @pytest.fixture(scope="session")
 def kit(tmp_path_factory: pytest.TempPathFactory) -> KitSession:
-    """The fixed session (a cuff push over its limit, an emergency stop) with a copy of the example protocol."""
+    """The fixed session (a cuff push over its limit, an emergency stop) with a copy of the example
+    protocol."""
     return make_kit(tmp_path_factory.mktemp("kit"))
 
 

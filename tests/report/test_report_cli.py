@@ -1,5 +1,5 @@
-"""``bracer report`` on the command line: what it writes, what it refuses (exit 2), and that a report built from
-JSON records is the report built by running the analysis."""
+"""``bracer report`` on the command line: what it writes, what it refuses (exit 2), and that a report built
+from JSON records is the report built by running the analysis."""
 
 from __future__ import annotations
 

@@ -230,8 +230,9 @@ def test_stop_findings_make_one_row_per_trigger() -> None:
 def test_candidate_incidents_use_the_iso_14155_categories(
     record: dict[str, Any], categories: tuple[str, ...] | None
 ) -> None:
-    # ISO 14155:2020 vocabulary ([C2] in REFERENCES.md): adverse event; device deficiency (incl. malfunction and
-    # use error).  A load on the participant over its limit may be both; a device not keeping a limit, the latter.
+    # ISO 14155:2020 vocabulary ([C2] in REFERENCES.md): adverse event; device deficiency (incl. malfunction
+    # and use error).  A load on the participant over its limit may be both; a device not keeping a limit, the
+    # latter.
     incidents = candidate_incidents(finding_rows([record]))
     if categories is None:
         assert incidents == ()

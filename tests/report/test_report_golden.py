@@ -4,9 +4,9 @@ The files under golden/ are what bracer writes for the kit session (tests/report
 nominal review of the example protocol.  Machine-dependent text is masked before comparing: the versions of
 Python and the numerical libraries, and the folder bracer's reference tables are installed in.
 
-To update after an intended change, run ``BRACER_UPDATE_GOLDEN=1 pytest tests/report/test_report_golden.py`` and
-read the diff (git diff tests/report/golden) before committing: the switch is never a way to make a failing test
-pass.
+To update after an intended change, run ``BRACER_UPDATE_GOLDEN=1 pytest tests/report/test_report_golden.py``
+and read the diff (git diff tests/report/golden) before committing: the switch is never a way to make a
+failing test pass.
 """
 
 from __future__ import annotations

@@ -1,5 +1,5 @@
-"""``bracer verify``: every input a report names is checked by its SHA-256; one changed byte or a missing file is
-caught, and the exit code tells a script which case it is (0 all match, 1 a mismatch or missing file, 2 an
+"""``bracer verify``: every input a report names is checked by its SHA-256; one changed byte or a missing file
+is caught, and the exit code tells a script which case it is (0 all match, 1 a mismatch or missing file, 2 an
 unusable report file)."""
 
 from __future__ import annotations

@@ -16,10 +16,12 @@ from bracer.errors import InputError
 from bracer.report.classes import Declared, summarise_classes
 from bracer.report.document import (
     CautionEntry,
+    ClassSummary,
     CoverageBlock,
     Document,
     Figure,
     FindingRow,
+    Incident,
     LimitChange,
     Provenance,
     RecordNote,
@@ -27,6 +29,7 @@ from bracer.report.document import (
     ReviewFindingRow,
     ReviewSection,
     SignOff,
+    StopRow,
     TitleBlock,
 )
 from bracer.report.incidents import candidate_incidents
@@ -118,7 +121,8 @@ def _consistent(review: SourceRecord | None, audit: SourceRecord | None) -> None
     for key in ("id", "version"):
         if (r.get("protocol") or {}).get(key) != (a.get("protocol") or {}).get(key):
             raise InputError.single(
-                f"the review record is of protocol {key} {(r.get('protocol') or {}).get(key)!r} but the audit "
+                f"the review record is of protocol {key} {(r.get('protocol') or {}).get(key)!r} but the "
+                "audit "
                 f"record of {(a.get('protocol') or {}).get(key)!r}; one report covers one protocol version",
                 audit.path or review.path,
                 field=f"protocol.{key}",
@@ -360,7 +364,8 @@ def build_document(
     protocol
         The protocol as loaded (title block: study, site, device; which limit classes it declares).
     context
-        The session's signals with the audit's masks, for the plots; None: no plots (``figure_notes`` say why).
+        The session's signals with the audit's masks, for the plots; None: no plots (``figure_notes`` say
+        why).
 
     Raises
     ------
@@ -389,11 +394,11 @@ def build_document(
     )
     title = _title(review, audit, protocol, when, session_date)
     findings: tuple[FindingRow, ...] = ()
-    summary = ()
-    coverage = None
-    statement = None
-    stops = ()
-    incidents = ()
+    summary: tuple[ClassSummary, ...] = ()
+    coverage: CoverageBlock | None = None
+    statement: str | None = None
+    stops: tuple[StopRow, ...] = ()
+    incidents: tuple[Incident, ...] = ()
     figures: tuple[Figure, ...] = ()
     fnotes = list(figure_notes)
     if audit is not None:

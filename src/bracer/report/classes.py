@@ -3,8 +3,8 @@
 The sentence states what the analysed data show and how much of the session was analysed, e.g. "no exceedance
 found in the analysed data (analysed: 99.7 % of session time)"; it never calls a device, a session or a
 participant safe, and it never says a check was passed.  What was not analysed is named with its reason:
-a channel missing from the log, a channel with no sample fit to analyse, a limit the protocol does not declare,
-a check that could not run.
+a channel missing from the log, a channel with no sample fit to analyse, a limit the protocol does not
+declare, a check that could not run.
 
 The analysed share of a class is that of its least-covered channel (each channel of the class was analysed for
 at least that share of the session's time); channels with no analysed time at all are listed apart.

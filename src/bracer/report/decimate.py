@@ -1,14 +1,14 @@
 """Decimation for plots that cannot hide an extreme.
 
-A session of an hour at 1 kHz has 3.6 million samples per channel; a plot 640 pixels wide can show 640 columns.
-Plain subsampling (every n-th sample) drops peaks: a 20 ms force spike vanishes.  Here the samples are grouped
-by the pixel column their time falls in, and for every column the first, the last, the smallest and the largest
-sample are kept (in time order).  The line drawn through the kept samples therefore reaches, in every column,
-exactly the minimum and the maximum of the original samples of that column -- no extreme can vanish -- and it
-joins neighbouring columns where the original line did.
+A session of an hour at 1 kHz has 3.6 million samples per channel; a plot 640 pixels wide can show 640
+columns. Plain subsampling (every n-th sample) drops peaks: a 20 ms force spike vanishes.  Here the samples
+are grouped by the pixel column their time falls in, and for every column the first, the last, the smallest
+and the largest sample are kept (in time order).  The line drawn through the kept samples therefore reaches,
+in every column, exactly the minimum and the maximum of the original samples of that column -- no extreme can
+vanish -- and it joins neighbouring columns where the original line did.
 
-Samples that are not valid (NaN, or masked out by the data-quality pass) are never drawn and break the line, as
-do steps in time longer than ``gap`` seconds; the line is drawn in *pieces*, one per run of valid samples.
+Samples that are not valid (NaN, or masked out by the data-quality pass) are never drawn and break the line,
+as do steps in time longer than ``gap`` seconds; the line is drawn in *pieces*, one per run of valid samples.
 """
 
 from __future__ import annotations

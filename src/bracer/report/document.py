@@ -1,10 +1,10 @@
 """The report as one typed document.
 
-A report is built once (:func:`bracer.report.build.build_document`) from the JSON records of a pre-trial review
-and/or a post-session audit -- the records a run writes, or that ``--from-json`` reads back, so a report made
-from a record and one made by running the analysis are the same document -- and every format (Markdown, HTML,
-PDF, JSON) renders this one model.  The formats cannot disagree because none of them computes anything: they
-lay out the rows below.
+A report is built once (:func:`bracer.report.build.build_document`) from the JSON records of a pre-trial
+review and/or a post-session audit -- the records a run writes, or that ``--from-json`` reads back, so a
+report made from a record and one made by running the analysis are the same document -- and every format
+(Markdown, HTML, PDF, JSON) renders this one model.  The formats cannot disagree because none of them computes
+anything: they lay out the rows below.
 
 Numbers stay numbers here (with their unit beside them) until a writer renders them with
 :mod:`bracer.report.wording`.
@@ -264,7 +264,8 @@ class StopRow:
 
 @dataclass(frozen=True, slots=True)
 class Incident:
-    """A candidate incident for the clinician to assess.  Seriousness and relatedness are left blank on purpose."""
+    """A candidate incident for the clinician to assess.  Seriousness and relatedness are left blank on
+    purpose."""
 
     ref: str
     t: float | None

@@ -10,8 +10,8 @@
 * the stop timings against their budgets.
 
 Every line is decimated to the plot's pixel columns keeping each column's minimum and maximum
-(:mod:`bracer.report.decimate`), so no peak can vanish however long the session.  Samples the data-quality pass
-found unfit to analyse are not drawn: the line has a gap there.
+(:mod:`bracer.report.decimate`), so no peak can vanish however long the session.  Samples the data-quality
+pass found unfit to analyse are not drawn: the line has a gap there.
 """
 
 from __future__ import annotations
@@ -236,7 +236,8 @@ class _Builder:
             Figure(
                 fid,
                 f"Joint {name}: position, speed and torque",
-                f"{joint.motion}; + {joint.positive} / − {joint.negative}. Position against every range layer and "
+                f"{joint.motion}; + {joint.positive} / − {joint.negative}. Position against every range "
+                "layer and "
                 "the participant's range; speed and torque against their limits in each direction.",
                 Chart(tuple(panels), self.t0, self.t1),
                 "overview",
@@ -307,8 +308,10 @@ class _Builder:
             Figure(
                 fid,
                 f"Contact {name}: force magnitude",
-                f"{contact.kind} on the {region}, area {contact.area}. Force against the quasi-static and transient "
-                "limits; the sustained-force level and the force each pressure limit corresponds to (pressure × "
+                f"{contact.kind} on the {region}, area {contact.area}. Force against the quasi-static and "
+                "transient "
+                "limits; the sustained-force level and the force each pressure limit corresponds to "
+                "(pressure × "
                 "contact area) as lines.",
                 Chart((panel,), self.t0, self.t1),
                 "overview",
@@ -354,7 +357,8 @@ class _Builder:
             Figure(
                 fid,
                 f"{f.ref}: {what}, {t0:.3f}–{t1:.3f} s",
-                f"Zoom on {f.ref} ({f.code} {f.name}): peak {value(f.peak, f.unit)}, limit {value(f.limit, f.unit)}; "
+                f"Zoom on {f.ref} ({f.code} {f.name}): peak {value(f.peak, f.unit)}, limit "
+                f"{value(f.limit, f.unit)}; "
                 "the exceedance is hatched.",
                 Chart((p,), t0, t1),
                 "zoom",
@@ -409,8 +413,10 @@ class _Builder:
             Figure(
                 fid,
                 f"{s.ref}: {s.label} at {s.t_trigger:.3f} s",
-                f"Every joint's speed and torque around stop {s.ref}: trigger (solid line), standstill (dashed) and "
-                f"torque off (dotted). Time to standstill {value(s.latency, s.latency_unit)} ({s.latency_status}); "
+                f"Every joint's speed and torque around stop {s.ref}: trigger (solid line), standstill "
+                "(dashed) and "
+                f"torque off (dotted). Time to standstill {value(s.latency, s.latency_unit)} "
+                f"({s.latency_status}); "
                 f"torque off {value(s.torque_off, s.torque_unit)} ({s.torque_status}).",
                 Chart(tuple(panels), t0, t1),
                 "stop",
@@ -465,8 +471,10 @@ class _Builder:
             Figure(
                 "stop-latency",
                 "Stop timings against their budgets",
-                "Time from each trigger to standstill (solid bars) and to torque off (hatched bars); the dashed "
-                "marks are the budgets the protocol declares. A dashed outline: the event did not come before the "
+                "Time from each trigger to standstill (solid bars) and to torque off (hatched bars); the "
+                "dashed "
+                "marks are the budgets the protocol declares. A dashed outline: the event did not come "
+                "before the "
                 "log ended.",
                 BarChart(
                     tuple(bars),
@@ -514,7 +522,8 @@ def build_figures(ctx: AuditContext, findings: Sequence[FindingRow], stops: Sequ
             zooms += 1
     if skipped:
         b.notes.append(
-            f"{skipped} further exceedance(s) have no zoom plot of their own (at most {MAX_ZOOMS} per report); "
+            f"{skipped} further exceedance(s) have no zoom plot of their own (at most {MAX_ZOOMS} per "
+            "report); "
             "each is in the findings table and on its joint's or contact's overview plot."
         )
     return FigureSet(tuple(b.figures), b.links, tuple(b.notes))

@@ -1,7 +1,7 @@
 """The report as one self-contained HTML file: every plot inline as SVG, the style sheet inline, no script, no
-font, image or link to anything outside the file (every ``href`` is a ``#`` anchor inside it).  It prints on A4
-(``@page``), and it reads in greyscale: severities are words in bordered labels, exceedances are bold rows with a
-heavy rule, plots use patterns and dashes.
+font, image or link to anything outside the file (every ``href`` is a ``#`` anchor inside it).  It prints on
+A4 (``@page``), and it reads in greyscale: severities are words in bordered labels, exceedances are bold rows
+with a heavy rule, plots use patterns and dashes.
 
 Sections, columns and cell texts come from :mod:`bracer.report.sections`, the same as the Markdown and PDF.
 Every text from the protocol or the logs is HTML-escaped.
@@ -80,8 +80,10 @@ ul.legend { font-size: 8.6pt; columns: 2; margin: 1mm 0 3mm; padding-left: 4mm; 
 .blank { display: inline-block; min-width: 22mm; border-bottom: .6pt solid var(--ink); height: 4mm; }
 .signoff { display: grid; grid-template-columns: 1fr 1fr; gap: 8mm; margin-top: 3mm; break-inside: avoid; }
 .signoff div.role { border: 1pt solid var(--ink); padding: 3mm; }
-.signoff p.line { margin: 5mm 0 0; border-bottom: .6pt solid var(--ink); font-size: 8.6pt; color: var(--muted); }
-.hash { font-family: "DejaVu Sans Mono", Menlo, Consolas, monospace; font-size: 7.4pt; word-break: break-all; }
+.signoff p.line { margin: 5mm 0 0; border-bottom: .6pt solid var(--ink); font-size: 8.6pt;
+                  color: var(--muted); }
+.hash { font-family: "DejaVu Sans Mono", Menlo, Consolas, monospace; font-size: 7.4pt;
+        word-break: break-all; }
 td.msg { min-width: 60mm; }
 @media print { body { padding: 0; } a { color: var(--ink); text-decoration: none; } }
 """

@@ -1,11 +1,12 @@
 """Candidate incidents for the clinician, derived from the audit's exceedances.
 
 In the vocabulary of ISO 14155:2020 (clinical investigation of medical devices): an *adverse event* is an
-untoward medical occurrence in a participant, whether or not related to the device; a *device deficiency* is an
-inadequacy of a device with respect to its identity, quality, durability, reliability, safety or performance,
-including malfunction and use error.  bracer cannot know whether a participant was harmed, nor how serious an
-event was or whether it is related to the device or the procedure: it lists the findings that may be reportable
-and suggests which category to consider; seriousness and relatedness are left blank for the clinician.
+untoward medical occurrence in a participant, whether or not related to the device; a *device deficiency* is
+an inadequacy of a device with respect to its identity, quality, durability, reliability, safety or
+performance, including malfunction and use error.  bracer cannot know whether a participant was harmed, nor
+how serious an event was or whether it is related to the device or the procedure: it lists the findings that
+may be reportable and suggests which category to consider; seriousness and relatedness are left blank for the
+clinician.
 
 Rules (one candidate per exceedance finding; near misses and data-quality findings are not candidates):
 
@@ -63,14 +64,16 @@ def _candidate(f: FindingRow) -> tuple[str, tuple[str, ...], str] | None:
         return (
             f"{_CONTACT[f.code]} over its limit{_where(f)}{_over(f)}",
             (ADVERSE_EVENT, DEVICE_DEFICIENCY),
-            "a load on the participant beyond the protocol's limit; whether it caused harm is for the clinician "
+            "a load on the participant beyond the protocol's limit; whether it caused harm is for the "
+            "clinician "
             "to assess",
         )
     if f.code == "A101" and f.layer == "participant":
         return (
             f"joint moved beyond the participant's range of motion{_where(f)}{_over(f)}",
             (ADVERSE_EVENT, DEVICE_DEFICIENCY),
-            "motion beyond the participant's measured (or reference) range; whether it caused harm is for the "
+            "motion beyond the participant's measured (or reference) range; whether it caused harm is for "
+            "the "
             "clinician to assess",
         )
     if f.code in _JOINT:

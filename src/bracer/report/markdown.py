@@ -45,7 +45,7 @@ def _table(t: Table, raw_first: bool = False) -> list[str]:
     for row in t.rows:
         cells = [c if (raw_first and i == 0) else esc(c) for i, c in enumerate(row)]
         out.append("| " + " | ".join(cells) + " |")
-    return out + [""]
+    return [*out, ""]
 
 
 def render_markdown(doc: Document, plots_dir: str) -> tuple[str, dict[str, str]]:
@@ -64,7 +64,7 @@ def render_markdown(doc: Document, plots_dir: str) -> tuple[str, dict[str, str]]
     out.append("")
     if doc.has_audit:
         out += [f"**Session audit:** {esc(doc.statement or '')}.", ""]
-        out += [f"## {HEADINGS['summary']}", ""] + _table(summary_table(doc))
+        out += [f"## {HEADINGS['summary']}", "", *_table(summary_table(doc))]
         gaps = [(c.label, n) for c in doc.summary for n in c.not_analysed]
         if gaps:
             out += ["Not analysed:", ""] + [f"- {esc(label)}: {esc(n)}" for label, n in gaps] + [""]
@@ -75,7 +75,7 @@ def render_markdown(doc: Document, plots_dir: str) -> tuple[str, dict[str, str]]
             out += _table(stop_table(doc.stops))
             joints = stop_joint_table(doc.stops)
             if joints.rows:
-                out += ["Distance each joint travelled after the trigger:", ""] + _table(joints)
+                out += ["Distance each joint travelled after the trigger:", "", *_table(joints)]
         else:
             out += ["No stop was requested in the analysed data.", ""]
         out += [f"## {HEADINGS['findings']}", ""]
@@ -115,7 +115,7 @@ def render_markdown(doc: Document, plots_dir: str) -> tuple[str, dict[str, str]]
         out += ["### Review findings", ""]
         table = review_finding_table(doc)
         out += _table(table) if table.rows else ["The review reported no finding.", ""]
-    out += [f"## {HEADINGS['provenance']}", ""] + _table(input_table(doc))
+    out += [f"## {HEADINGS['provenance']}", "", *_table(input_table(doc))]
     out += [esc(line) + "  " for line in software_lines(doc)] + [""]
     out += [f"## {HEADINGS['standards']}", ""] + [f"- {esc(s)}: {esc(w)}" for s, w in doc.standards] + [""]
     out += [f"## {HEADINGS['sign_off']}", "", esc(SIGN_OFF_INTRO), ""]

@@ -1,10 +1,10 @@
-"""The report as PDF, typeset by Typst through its Python binding (the ``typst`` wheel from PyPI: it bundles the
-compiler and its fonts and embeds SVG, so no system package is needed).
+"""The report as PDF, typeset by Typst through its Python binding (the ``typst`` wheel from PyPI: it bundles
+the compiler and its fonts and embeds SVG, so no system package is needed).
 
 The Typst source is generated from the same sections as the Markdown and HTML; every text goes in as a Typst
 *string* (never as markup), so nothing from a protocol or a log can change the layout.  Only the fonts bundled
-with Typst are used (system fonts are ignored), and the PDF's creation date is the report's analysis time, so the
-same inputs under ``SOURCE_DATE_EPOCH`` give the same PDF on any machine with the same Typst version.
+with Typst are used (system fonts are ignored), and the PDF's creation date is the report's analysis time, so
+the same inputs under ``SOURCE_DATE_EPOCH`` give the same PDF on any machine with the same Typst version.
 """
 
 from __future__ import annotations
@@ -43,7 +43,8 @@ __all__ = ["render_typst", "write_pdf"]
 _PREAMBLE = """\
 #set document(title: {title}, author: "bracer")
 #set page(paper: "a4", margin: (x: 15mm, top: 16mm, bottom: 18mm),
-  footer: context [#set text(size: 7.5pt, fill: luma(90)); #{footer} #h(1fr) page #counter(page).display("1 of 1", both: true)])
+  footer: context [#set text(size: 7.5pt, fill: luma(90)); #{footer} #h(1fr) page
+    #counter(page).display("1 of 1", both: true)])
 #set text(font: "Libertinus Serif", size: 9.5pt, lang: "en")
 #set par(leading: 0.55em, spacing: 0.9em)
 #set table(stroke: (x, y) => (bottom: if y == 0 {{ 0.9pt }} else {{ 0.35pt + luma(170) }}),
@@ -53,12 +54,14 @@ _PREAMBLE = """\
 #show heading.where(level: 1): it => block(below: 3mm, text(size: 16pt, weight: "bold", it.body))
 #show heading.where(level: 2): it => block(above: 6mm, below: 2.5mm, width: 100%,
   stroke: (bottom: 1.2pt), inset: (bottom: 1.5mm), text(size: 11.5pt, weight: "bold", it.body))
-#show heading.where(level: 3): it => block(above: 3.5mm, below: 1.5mm, text(size: 9.5pt, weight: "bold", it.body))
+#show heading.where(level: 3): it => block(above: 3.5mm, below: 1.5mm,
+  text(size: 9.5pt, weight: "bold", it.body))
 #show figure.caption: set align(left)
 #show figure.caption: set text(size: 8.5pt)
 #show link: it => underline(offset: 1.5pt, stroke: 0.4pt, it)
 #let sev(s) = box(inset: (x: 2pt, y: 1pt), outset: (y: 1pt), radius: 1.5pt,
-  stroke: if s == "ERROR" {{ 1.1pt }} else if s == "WARNING" {{ (thickness: 0.7pt, dash: "dashed") }} else {{ 0.4pt + luma(120) }},
+  stroke: if s == "ERROR" {{ 1.1pt }} else if s == "WARNING" {{ (thickness: 0.7pt, dash: "dashed") }}
+    else {{ 0.4pt + luma(120) }},
   text(size: 6.8pt, weight: if s == "ERROR" {{ "bold" }} else {{ "regular" }}, s))
 #let blank = box(width: 20mm, height: 3.5mm, stroke: (bottom: 0.5pt))
 """
@@ -121,7 +124,8 @@ def _message(f: FindingRow) -> str:
 
 
 def render_typst(doc: Document, plots_dir: str = "plots") -> tuple[str, dict[str, str]]:
-    """The Typst source of the report and the SVG files it includes (name relative to ``plots_dir`` -> text)."""
+    """The Typst source of the report and the SVG files it includes (name relative to ``plots_dir`` ->
+    text)."""
     t = doc.title
     files: dict[str, str] = {}
     footer = f"bracer report · {t.protocol_id} {t.protocol_version} · {t.participant or 'nominal'}"

@@ -3,9 +3,9 @@ bar charts of stop timings against their budgets.
 
 The charts must read on a greyscale printout and for a colour-blind reader, so nothing is told by colour
 alone: every limit layer has its own fill *pattern* and line *dash* (planned: light fill, dashed line; device:
-diagonal hatching, dash-dot line; mechanical: cross-hatching, solid heavy line; participant: dotted line), each
-line carries a text label, series are told apart by dash and by a label at their end, and event spans carry
-their finding or stop number.
+diagonal hatching, dash-dot line; mechanical: cross-hatching, solid heavy line; participant: dotted line),
+each line carries a text label, series are told apart by dash and by a label at their end, and event spans
+carry their finding or stop number.
 
 Output is deterministic (fixed number formatting, no random ids), so the same data give the same bytes.  For
 HTML the SVG is inlined without an ``xmlns`` attribute (HTML5 needs none; the report holds no URL at all); a
@@ -403,13 +403,15 @@ def _panel(panel: Panel, chart: Chart, top: float, uid: str) -> list[str]:
         d = f' stroke-dasharray="{dash}"' if dash else ""
         width = 1.2 if s.style == 0 else 1.3
         last: tuple[float, float] | None = None
-        for t, x in s.pieces:
-            if t.size == 0:
+        for t_piece, x_piece in s.pieces:
+            tp: np.ndarray = np.asarray(t_piece)
+            xp: np.ndarray = np.asarray(x_piece)
+            if tp.size == 0:
                 continue
-            xs = x0 + (t - chart.t0) / span_t * (x1 - x0)
-            ys = y_bot - (x - lo) / (hi - lo) * (y_bot - y_top)
+            xs: np.ndarray = x0 + (tp - chart.t0) / span_t * (x1 - x0)
+            ys: np.ndarray = y_bot - (xp - lo) / (hi - lo) * (y_bot - y_top)
             pts = " ".join(f"{_n(a)},{_n(b)}" for a, b in zip(xs.tolist(), ys.tolist(), strict=True))
-            if t.size == 1:
+            if tp.size == 1:
                 out.append(
                     f'<circle cx="{_n(float(xs[0]))}" cy="{_n(float(ys[0]))}" r="1.6" fill="{colour}"/>'
                 )

@@ -1,11 +1,13 @@
-"""Provenance of a report: the inputs with their SHA-256, the analysis time, and the software that computed it.
+"""Provenance of a report: the inputs with their SHA-256, the analysis time, and the software that computed
+it.
 
-The analysis time follows the reproducible-builds convention: when ``SOURCE_DATE_EPOCH`` is set (integer seconds
-since 1970-01-01 UTC) it *is* the analysis time, so the same inputs give byte-identical Markdown, HTML and JSON.
+The analysis time follows the reproducible-builds convention: when ``SOURCE_DATE_EPOCH`` is set (integer
+seconds since 1970-01-01 UTC) it *is* the analysis time, so the same inputs give byte-identical Markdown, HTML
+and JSON.
 
-Paths are recorded as they are shown to a person: relative to the current directory when the file lies under it,
-absolute otherwise, always with forward slashes.  ``bracer verify --root DIR`` resolves relative paths against
-``DIR``.
+Paths are recorded as they are shown to a person: relative to the current directory when the file lies under
+it, absolute otherwise, always with forward slashes.  ``bracer verify --root DIR`` resolves relative paths
+against ``DIR``.
 """
 
 from __future__ import annotations
@@ -32,7 +34,8 @@ __all__ = [
     "software",
 ]
 
-#: The libraries whose code computes or reads the numbers of a review or an audit, in the order reports list them.
+#: The libraries whose code computes or reads the numbers of a review or an audit, in the order reports list
+#: them.
 LIBRARIES: tuple[str, ...] = ("numpy", "scipy", "pandas", "pyarrow", "pydantic", "PyYAML")
 
 _CHUNK = 1 << 20
@@ -40,7 +43,8 @@ _CHUNK = 1 << 20
 
 @dataclass(frozen=True, slots=True)
 class InputDigest:
-    """One input file: its role (protocol, log, reference table), path as recorded, SHA-256 and size in bytes."""
+    """One input file: its role (protocol, log, reference table), path as recorded, SHA-256 and size in
+    bytes."""
 
     role: str
     path: str

@@ -1,8 +1,8 @@
 """Reading the JSON records a report is built from: a pre-trial review record (``bracer review --json``) and a
 post-session audit record (``bracer audit --json``), or the record of a report itself (``bracer verify``).
 
-A record that cannot be used is an :class:`~bracer.errors.InputError` naming the file, the line (for JSON syntax)
-or the field, what was expected and what was found -- never a traceback.
+A record that cannot be used is an :class:`~bracer.errors.InputError` naming the file, the line (for JSON
+syntax) or the field, what was expected and what was found -- never a traceback.
 """
 
 from __future__ import annotations
@@ -28,7 +28,8 @@ _REQUIRED = {
 
 @dataclass(frozen=True, slots=True)
 class SourceRecord:
-    """A record as read: its kind (review, audit, report), its data and the file it came from (None: this run)."""
+    """A record as read: its kind (review, audit, report), its data and the file it came from (None: this
+    run)."""
 
     kind: str
     data: dict[str, Any]

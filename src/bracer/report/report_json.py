@@ -1,5 +1,5 @@
-"""The report's JSON record: the document itself (every row and figure caption, no plot data) and the review and
-audit records it was built from, so that one file carries the whole evidence.
+"""The report's JSON record: the document itself (every row and figure caption, no plot data) and the review
+and audit records it was built from, so that one file carries the whole evidence.
 
 Layout (format version 1)::
 
@@ -10,8 +10,8 @@ Layout (format version 1)::
      "figures": [{"id", "title", "caption", "group"}], "review": {...} | null, "sign_off": {...},
      "statements": [...], "standards": [...], "sources": {"review": {...} | null, "audit": {...} | null}}
 
-``inputs`` is what ``bracer verify`` checks.  Keys keep their order and floats their shortest repr, so the same
-document gives the same bytes.
+``inputs`` is what ``bracer verify`` checks.  Keys keep their order and floats their shortest repr, so the
+same document gives the same bytes.
 """
 
 from __future__ import annotations

@@ -2,9 +2,10 @@
 
 * ``PROTOCOL`` alone: the pre-trial review is run, the report covers it.
 * ``PROTOCOL LOG…``: the review and the audit are run; the plots are drawn from the logs.
-* ``--from-json`` records replace the analyses they hold.  The protocol and logs the records name are used for the
-  title block and the plots only when their SHA-256 matches the record's; otherwise the report says what it could
-  not show.  Files given on the command line must match the record they go with: a mismatch is an error.
+* ``--from-json`` records replace the analyses they hold.  The protocol and logs the records name are used for
+the
+  title block and the plots only when their SHA-256 matches the record's; otherwise the report says what it
+  could not show.  Files given on the command line must match the record they go with: a mismatch is an error.
 """
 
 from __future__ import annotations
@@ -80,7 +81,8 @@ def _check_given(rec: SourceRecord, given: Sequence[Path], role: str) -> None:
         if digest not in named:
             listed = "; ".join(f"{path} (sha256 {sha[:12]}…)" for sha, path in named.items()) or "none"
             raise InputError.single(
-                f"this {role} (sha256 {digest[:12]}…) is not one the {rec.kind} record {rec.path} names: {listed}",
+                f"this {role} (sha256 {digest[:12]}…) is not one the {rec.kind} record {rec.path} names: "
+                f"{listed}",
                 p,
             )
 
@@ -178,7 +180,8 @@ def make_report(req: ReportRequest, when: AnalysisTime | None = None) -> Documen
             elif named:
                 absent = [display_path(str(i["path"])) for i in named if Path(str(i["path"])) not in found]
                 notes.append(
-                    "plots not drawn: the logs the audit record names are not at their recorded paths or differ "
+                    "plots not drawn: the logs the audit record names are not at their recorded paths or "
+                    "differ "
                     f"from them ({', '.join(absent)}); give them after the protocol to draw the plots"
                 )
     context = None

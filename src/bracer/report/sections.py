@@ -46,7 +46,8 @@ HEADINGS = {
 INCIDENT_INTRO = (
     "Findings that may be reportable, in the vocabulary of ISO 14155:2020: an adverse event is an untoward "
     "medical occurrence in a participant; a device deficiency is an inadequacy of the device in identity, "
-    "quality, durability, reliability, safety or performance, including malfunction and use error. bracer cannot "
+    "quality, durability, reliability, safety or performance, including malfunction and use error. bracer "
+    "cannot "
     "tell whether the participant was harmed: the categories below are suggestions from the data, and "
     "seriousness and relatedness are left blank for the responsible clinician to assess."
 )
@@ -55,7 +56,8 @@ NO_INCIDENTS = (
     "own observation of the session."
 )
 SIGN_OFF_INTRO = (
-    "By signing, the responsible clinician and the responsible engineer record that they have read this report. "
+    "By signing, the responsible clinician and the responsible engineer record that they have read this "
+    "report. "
     "The signatures do not turn the report into a certification."
 )
 
@@ -122,8 +124,10 @@ def stop_table(stops: Sequence[StopRow]) -> Table:
             s.ref,
             time_s(s.t_trigger),
             s.label,
-            f"{value(s.latency, s.latency_unit)} of {value(s.latency_budget, s.latency_unit)}: {s.latency_status}",
-            f"{value(s.torque_off, s.torque_unit)} of {value(s.torque_budget, s.torque_unit)}: {s.torque_status}",
+            f"{value(s.latency, s.latency_unit)} of {value(s.latency_budget, s.latency_unit)}: "
+            f"{s.latency_status}",
+            f"{value(s.torque_off, s.torque_unit)} of {value(s.torque_budget, s.torque_unit)}: "
+            f"{s.torque_status}",
             s.category_status,
         )
         for s in stops
@@ -211,8 +215,10 @@ def coverage_lines(doc: Document) -> tuple[str, ...]:
     if c is None:
         return ()
     lines = [
-        f"Session time {time_s(c.session_start)} to {time_s(c.session_end)} ({duration(c.session_s)}); analysed "
-        f"with every analysed channel covered: {duration(c.analysed_s)}, {percent(c.fraction)} of session time."
+        f"Session time {time_s(c.session_start)} to {time_s(c.session_end)} ({duration(c.session_s)}); "
+        "analysed "
+        f"with every analysed channel covered: {duration(c.analysed_s)}, {percent(c.fraction)} of session "
+        "time."
     ]
     for name, path, samples, declared, measured in c.streams:
         lines.append(

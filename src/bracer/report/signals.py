@@ -1,9 +1,9 @@
 """The session's signals for the report's plots, read the way the audit reads them.
 
 The plots draw what the audit analysed: the same effective limits (the participant's cautions and overrides
-applied), the same channels with the same data-quality masks (samples not fit to analyse are not drawn), and the
-same derived speeds.  The signals come from the audit's own channel functions, so a plotted peak is the peak
-the findings report.
+applied), the same channels with the same data-quality masks (samples not fit to analyse are not drawn), and
+the same derived speeds.  The signals come from the audit's own channel functions, so a plotted peak is the
+peak the findings report.
 """
 
 from __future__ import annotations

@@ -1,9 +1,9 @@
 """The stops table: one row per stop episode, from the audit's stop findings.
 
 A stop episode is opened by its stop-latency finding (A201, kind ``stop`` or ``violation``); the torque-off
-(A202), stop-distance (A203, one per joint that moved) and stop-category (A204) findings of the same trigger --
-same trigger source and same trigger time -- complete the row.  Everything comes from the record's findings, so a
-report built from a JSON record has the same stops table as one built by running the audit.
+(A202), stop-distance (A203, one per joint that moved) and stop-category (A204) findings of the same trigger
+-- same trigger source and same trigger time -- complete the row.  Everything comes from the record's
+findings, so a report built from a JSON record has the same stops table as one built by running the audit.
 """
 
 from __future__ import annotations

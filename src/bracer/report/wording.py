@@ -1,5 +1,5 @@
-"""How a report writes numbers and labels: one set of functions every format uses, so that the Markdown, HTML and
-PDF of one report show the same figures in the same words.
+"""How a report writes numbers and labels: one set of functions every format uses, so that the Markdown, HTML
+and PDF of one report show the same figures in the same words.
 
 Numbers are rendered with up to four significant digits and their unit; times on the log clock with the
 millisecond; percentages of session time are rounded *down* (99.96 % reads 99.9 %, never 100 %).
@@ -78,7 +78,7 @@ def duration(d: float | None) -> str:
         return f"{_number(d * 1e3, 4)} ms" if d < 1 else f"{d:.3f} s"
     if d < 600:
         return f"{d:.1f} s"
-    minutes, seconds = divmod(int(round(d)), 60)
+    minutes, seconds = divmod(round(d), 60)
     return f"{minutes} min {seconds:02d} s"
 
 

@@ -1,5 +1,6 @@
-"""Write a report's formats into a folder: ``<stem>.md`` (with ``<stem>.plots/``), ``<stem>.html``, ``<stem>.pdf``
-and ``<stem>.json``.  Files are written whole or not at all (a temporary file renamed into place)."""
+"""Write a report's formats into a folder: ``<stem>.md`` (with ``<stem>.plots/``), ``<stem>.html``,
+``<stem>.pdf`` and ``<stem>.json``.  Files are written whole or not at all (a temporary file renamed into
+place)."""
 
 from __future__ import annotations
 
@@ -54,7 +55,8 @@ def parse_formats(text: str) -> tuple[str, ...]:
 
 
 def report_stem(doc: Document) -> str:
-    """``bracer-report_AVRU-EXO-01_v1.2_AV-P01_S01``: protocol, version, participant, session (safe characters)."""
+    """``bracer-report_AVRU-EXO-01_v1.2_AV-P01_S01``: protocol, version, participant, session (safe
+    characters)."""
     t = doc.title
     parts = ["bracer-report", t.protocol_id, f"v{t.protocol_version}", t.participant or "nominal"]
     if t.session:
