@@ -24,12 +24,20 @@ def quantise(x: NDArray[np.float64], step: float) -> NDArray[np.float64]:
 
     A decimal step (0.01, 0.1 ...) rounds to that many decimals, so that values print as short decimals.
     """
+    return _quantise_into(x.copy(), step)
+
+
+def _quantise_into(x: NDArray[np.float64], step: float) -> NDArray[np.float64]:
+    """:func:`quantise`, overwriting ``x`` (no temporaries: whole channels are long)."""
     if step <= 0:
         return x
     decimals = -math.log10(step)
     if abs(decimals - round(decimals)) < 1e-9:
-        return np.round(x, round(decimals))
-    return np.round(x / step) * step
+        return np.round(x, round(decimals), out=x)
+    np.divide(x, step, out=x)
+    np.round(x, out=x)
+    x *= step
+    return x
 
 
 def measure(
@@ -48,5 +56,6 @@ def measure(
     noisy = x + offset
     if model.noise > 0:  # single-precision draws: twice as fast, and noise needs no more digits
         noise = rng.standard_normal(x.shape[0], dtype=np.float32)
-        noisy += model.noise * noise
-    return quantise(noisy, model.step), offset
+        noise *= np.float32(model.noise)
+        noisy += noise
+    return _quantise_into(noisy, model.step), offset

@@ -112,7 +112,8 @@ class Physics:
                 tau[:, j] = self.params.unmodelled_inertia * qdd[:, j]
             else:
                 tau[:, j] = mapping.sign * model_tau[names[mapping.model]]
-        return tau * self.overlays.torque_gain(t)[:, None]
+        tau *= self.overlays.torque_gain(t)[:, None]
+        return tau
 
     def lagged_motion(self, t: Array) -> tuple[tuple[Array, Array, Array], tuple[Array, Array, Array]]:
         """Motion at ``t`` and ``tracking_lag`` earlier (what the cuff model needs), to share between
