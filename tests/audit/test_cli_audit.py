@@ -138,3 +138,11 @@ def test_bad_log_in_a_separate_process_prints_no_traceback(tmp_path: Path) -> No
     )
     assert proc.returncode == 2, proc.stderr
     assert f"{paths[0]}:51:" in proc.stderr and "Traceback" not in proc.stderr + proc.stdout
+
+
+def test_narrow_terminal_gets_every_figure(run_bracer, tmp_path: Path, monkeypatch) -> None:  # type: ignore[no-untyped-def]
+    monkeypatch.setenv("COLUMNS", "80")
+    r = run_bracer("audit", PROTOCOL, *_gap_logs(tmp_path))
+    assert r.code == 1
+    assert "0.499 – 0.550 s · peak 0.051 s · limit 0.002 s · margin -0.049 s" in r.stdout
+    assert r.stdout.count("…") == 3  # nothing cut to an ellipsis but the three shortened SHA-256 sums

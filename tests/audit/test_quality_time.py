@@ -199,6 +199,8 @@ def test_missing_column_and_stream(tmp_path: Path) -> None:
         "elb_tau",
     )
     assert "did you mean 'elbow_tau'" in f.message
+    # what it makes unassessable: the whole main stream
+    assert (f.t_start, f.i_start, f.i_end) == (0.0, 0, 999) and f.t_end == pytest.approx(0.999)
 
 
 def test_whole_stream_missing_is_one_finding(tmp_path: Path) -> None:
@@ -214,3 +216,4 @@ def test_whole_stream_missing_is_one_finding(tmp_path: Path) -> None:
     assert (f.kind, f.quantity, f.channel) == (Kind.NOT_ASSESSABLE, "time", "t_cuff")
     assert "stream 'cuffs' is not in the log" in f.message
     assert "contact 'upper_arm_cuff' force" in f.message and "contact 'forearm_cuff' force" in f.message
+    assert f.t_start == 0.0 and f.t_end == pytest.approx(0.999)  # the whole session

@@ -15,6 +15,7 @@ from typing import Any
 from rich import box
 from rich.console import Console, Group, RenderableType
 from rich.measure import Measurement
+from rich.padding import Padding
 from rich.table import Table
 from rich.text import Text
 
@@ -78,7 +79,7 @@ def _size(n: int) -> str:
 def _header(result: AuditResult) -> RenderableType:
     table = Table(box=box.HEAVY_HEAD, show_header=False, padding=(0, 1))
     table.add_column(style="bold", no_wrap=True)
-    table.add_column()
+    table.add_column(overflow="fold")  # a long path folds, never cut
     table.add_row(
         _t("protocol"),
         _t(f"{result.protocol_id}  version {result.protocol_version}  ·  {result.protocol_title}"),
@@ -186,7 +187,8 @@ def _findings(result: AuditResult, decimals: int, console: Console) -> Renderabl
         table.add_column(col, no_wrap=True)
     for f, r in zip(ordered, rows, strict=True):
         table.add_row(*(_t(r[c], _MARK[f.severity][1] if c == "severity" else "") for c in columns))
-    if Measurement.get(console, console.options, table).maximum > console.width:  # would be squeezed
+    natural = Measurement.get(console, console.options.update_width(10_000), table).maximum
+    if natural > console.width:  # the table would be squeezed and cells cut
         return _finding_blocks(title, ordered, rows)
     notes = Table(box=None, show_header=False, pad_edge=False, padding=(0, 1, 0, 0))
     notes.add_column(no_wrap=True, justify="right")
@@ -206,12 +208,25 @@ def _finding_blocks(title: str, ordered: list[Finding], rows: list[dict[str, str
         head.append(r["severity"], style=_MARK[f.severity][1])
         head.append(f"  {f.code} {f.name} · {r['kind']} · {r['subject']} · {r['quantity']}")
         unit = f" {r['unit']}" if r["unit"] else ""
-        figures = (
-            f"      {r['start s']} – {r['end s']} s · peak {r['peak']}{unit} at {r['peak at s']} s · "
-            f"limit {r['limit']}{unit} · margin {r['margin']}{unit}"
-        )
-        lines += [head, _t(figures), _t(f"      {f.message}")]
+        parts = [f"{r['start s']} – {r['end s']} s"] if f.t_start is not None else []
+        if f.peak is not None:
+            parts.append(
+                f"peak {r['peak']}{unit}" + (f" at {r['peak at s']} s" if f.t_peak is not None else "")
+            )
+        if f.limit is not None:
+            parts.append(f"limit {r['limit']}{unit}")
+        if f.margin is not None:
+            parts.append(f"margin {r['margin']}{unit}")
+        lines.append(head)
+        if parts:
+            lines.append(Padding(_t(" · ".join(parts)), (0, 0, 0, 6)))
+        lines.append(Padding(_t(f.message), (0, 0, 0, 6)))
     return Group(*lines)
+
+
+def _percent(fraction: float) -> str:
+    """Rounded down, so that 99.96 % never reads as 100 %."""
+    return f"{math.floor(fraction * 1000 + 1e-9) / 10:.1f} %"
 
 
 def _coverage(result: AuditResult) -> RenderableType:
@@ -228,18 +243,18 @@ def _coverage(result: AuditResult) -> RenderableType:
         "analysed",
         "analysed s",
         title=f"Coverage: share of session time with valid samples{span}",
+        wrap=("feeds",),
     )
     for c in cov.channels:
         feeds = f"{c.subject} {c.role}" if c.subject else c.role
-        pct = "missing" if not c.present else f"{math.floor(c.fraction * 1000 + 1e-9) / 10:.1f} %"
+        pct = "missing" if not c.present else _percent(c.fraction)
         style = "bold red" if c.analysed_s <= 0 else ("yellow" if c.fraction < 0.99 else "")
         table.add_row(_t(c.stream), _t(c.column), _t(feeds), _t(pct, style), _t(f"{c.analysed_s:.3f}"))
-    whole = f"{math.floor(cov.fraction * 1000 + 1e-9) / 10:.1f} %"
     table.add_row(
         _t("session", "bold"),
+        _t("all", "bold"),
         _t("every analysed channel at once", "bold"),
-        _t(""),
-        _t(whole, "bold"),
+        _t(_percent(cov.fraction), "bold"),
         _t(f"{cov.analysed_s:.3f}", "bold"),
     )
     return table

@@ -8,6 +8,7 @@ from __future__ import annotations
 from bracer.audit.context import AuditContext
 from bracer.audit.quality.base import QualityResult, make_finding
 from bracer.audit.quality.channels import needs_of
+from bracer.audit.quality.timebase import session_span
 from bracer.findings import Check, Finding, Kind, Severity, register
 
 CHECK = register(
@@ -38,6 +39,7 @@ def run(ctx: AuditContext) -> QualityResult:
                 quantity="time",
                 channel=stream.time_column,
                 extra=(("samples", stream.n),),
+                **session_span(ctx),
             )
         )
     return QualityResult(tuple(findings))

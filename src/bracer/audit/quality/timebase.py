@@ -2,6 +2,8 @@
 
 from __future__ import annotations
 
+from typing import Any
+
 import numpy as np
 
 from bracer.audit.context import AuditContext
@@ -70,3 +72,27 @@ def timing(ctx: AuditContext, stream: Stream) -> StreamTiming:
     return StreamTiming(
         stream.name, stream.source.path, stream.n, first, last, stream.expected_rate, rate, jitter
     )
+
+
+def stream_span(ctx: AuditContext, name: str) -> dict[str, Any]:
+    """``t_start``, ``t_end``, ``i_start``, ``i_end`` of a stream's valid samples (empty when it has none)."""
+    stream = ctx.session.streams.get(name)
+    if stream is None:
+        return {}
+    idx = np.flatnonzero(time_valid(ctx, stream))
+    if idx.size == 0:
+        return {}
+    return {
+        "t_start": float(stream.time[idx[0]]),
+        "t_end": float(stream.time[idx[-1]]),
+        "i_start": int(idx[0]),
+        "i_end": int(idx[-1]),
+    }
+
+
+def session_span(ctx: AuditContext) -> dict[str, Any]:
+    """``t_start`` and ``t_end`` of the session: the earliest and latest valid time of any stream."""
+    spans = [stream_span(ctx, name) for name in ctx.session.streams]
+    starts = [s["t_start"] for s in spans if s]
+    ends = [s["t_end"] for s in spans if s]
+    return {"t_start": float(min(starts)), "t_end": float(max(ends))} if starts else {}
