@@ -69,6 +69,7 @@ def _stream_finding(stream: str, items: list[MissingColumn], span: dict[str, Any
             ("candidates", time.candidates),
             ("columns", tuple(m.column for m in items if m.role != "time")),
         ),
+        **span,
     )
 
 
