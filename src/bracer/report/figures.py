@@ -441,26 +441,28 @@ class _Builder:
                 return None if v is None or u is None else v * _factor(u) / f
 
             lat = conv(s.latency, s.latency_unit)
+            budget = conv(s.latency_budget, s.latency_unit)
             bars.append(
                 Bar(
                     f"{s.ref} to standstill",
                     lat,
-                    conv(s.latency_budget, s.latency_unit),
+                    budget,
                     unit,
                     "standstill",
-                    value(lat, unit) if lat is not None else "no standstill before log end",
+                    _bar_note(lat, budget, unit, "no standstill before log end"),
                 )
             )
             if s.torque_budget is not None or s.torque_off is not None:
                 off = conv(s.torque_off, s.torque_unit)
+                budget = conv(s.torque_budget, s.torque_unit)
                 bars.append(
                     Bar(
                         f"{s.ref} to torque off",
                         off,
-                        conv(s.torque_budget, s.torque_unit),
+                        budget,
                         unit,
                         "torque_off",
-                        value(off, unit) if off is not None else "not off before log end",
+                        _bar_note(off, budget, unit, "not off before log end"),
                     )
                 )
         values = [b.value for b in bars if b.value is not None] + [
@@ -484,6 +486,14 @@ class _Builder:
                 "latency",
             )
         )
+
+
+def _bar_note(v: float | None, budget: float | None, unit: str, never: str) -> str:
+    """The text beside a timing bar: the time, and whether it is over its budget (said in words)."""
+    if v is None:
+        return never
+    over = budget is not None and v > budget
+    return value(v, unit) + (f", over the {value(budget, unit)} budget" if over else "")
 
 
 def _belongs(m: Marker, s: StopRow) -> bool:

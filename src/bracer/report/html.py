@@ -64,6 +64,7 @@ table.title { font-size: 9.5pt; border-top: 1.5pt solid var(--ink); }
 .statements p { margin: .6mm 0; }
 .verdict { font-size: 10.5pt; border-left: 3pt solid var(--ink); padding: 1mm 3mm; margin: 3mm 0; }
 tr.hit td { font-weight: bold; }
+tr.hit td.msg { font-weight: normal; }
 tr.hit td:first-child { border-left: 3pt solid var(--ink); }
 .sev { display: inline-block; padding: 0 1.2mm; border: .6pt solid var(--muted); border-radius: 1mm;
        font-size: 7.5pt; letter-spacing: .04em; white-space: nowrap; }

@@ -142,9 +142,9 @@ class BarChart:
 
 # ------------------------------------------------------------------------------------------------ geometry
 
-WIDTH = 760
+WIDTH = 800
 LEFT = 66
-RIGHT = 150  # room for the labels of limits and series
+RIGHT = 190  # room for the labels of limits and series
 TOP = 16
 PANEL_H = 118
 GAP = 26
@@ -465,7 +465,7 @@ def _panel(panel: Panel, chart: Chart, top: float, uid: str) -> list[str]:
         right.append((y, label, _SERIES[style_idx % len(_SERIES)][0]))
     placed = _spread([y + 3.5 for y, _, _ in right], y_top + 8, y_bot + 4)
     for (_, label, colour), y in zip(right, placed, strict=True):
-        out.append(_text(x1 + 6, y, label, size=9.5, fill=colour))
+        out.append(_text(x1 + 6, y, label, size=9, fill=colour))
     if not panel.series and panel.note:
         out.append(
             _text((x0 + x1) / 2, (y_top + y_bot) / 2, panel.note, size=11, anchor="middle", fill="#555555")
@@ -528,8 +528,10 @@ def _bars(chart: BarChart, uid: str) -> tuple[list[str], float]:
                 f'<rect x="{_n(x0)}" y="{_n(y + 6)}" width="{_n(w)}" height="{_n(row_h - 12)}" '
                 f'fill="{fill}" stroke="{stroke}" stroke-width="0.8"/>'
             )
-            text = b.note or ""
-            out.append(_text(x0 + w + 4, y + row_h / 2 + 3.5, text, size=9.5))
+            over = b.budget is not None and b.value > b.budget
+            out.append(
+                _text(x0 + w + 4, y + row_h / 2 + 3.5, b.note, size=9.5, weight="bold" if over else "")
+            )
         else:
             end = px(chart.cap) if chart.cap else x1
             out.append(
