@@ -10,8 +10,7 @@ import sys
 from pathlib import Path
 
 import pytest
-
-from conftest import EXAMPLE, variant
+from sim_protocols import EXAMPLE, variant
 
 SRC = Path(__file__).resolve().parents[2] / "src"
 

@@ -16,6 +16,7 @@ import pyarrow.parquet as pq
 import pytest
 from hypothesis import HealthCheck, given, settings
 from hypothesis import strategies as st
+from sim_protocols import variant
 
 from bracer.protocol.load import LoadedProtocol
 from bracer.protocol.model import Protocol
@@ -23,7 +24,6 @@ from bracer.protocol.resolve import resolve
 from bracer.simulate import RECIPES, SimulationError, SimulationOutput, lookup, simulate
 from bracer.simulate.envelope import band
 from bracer.units import parse_unit
-from conftest import variant
 
 
 def _table(out: SimulationOutput, stream: str) -> pa.Table:
