@@ -109,13 +109,20 @@ def decimate(
     change = (np.diff(piece) != 0) | (np.diff(col) != 0)
     starts = np.concatenate(([0], np.flatnonzero(change) + 1))
     ends = np.concatenate((starts[1:], [idx.size])) - 1
-    group = np.repeat(np.arange(starts.size), np.diff(np.concatenate((starts, [idx.size]))))
+    sizes = np.diff(np.concatenate((starts, [idx.size])))
+    group = np.repeat(np.arange(starts.size), sizes)
     values = x[idx]
-    order = np.lexsort((values, group))  # by group, then by value
-    first_in_group = np.concatenate(([0], np.flatnonzero(np.diff(group[order])) + 1))
-    last_in_group = np.concatenate((first_in_group[1:], [order.size])) - 1
-    i_min = order[first_in_group]
-    i_max = order[last_in_group]
+    # per group the first sample holding its minimum and the first holding its maximum (O(n), no sort)
+    i_min = _first_per_group(values == np.minimum.reduceat(values, starts)[group], group)
+    i_max = _first_per_group(values == np.maximum.reduceat(values, starts)[group], group)
     keep = np.unique(np.concatenate((starts, ends, i_min, i_max)))
     kept = idx[keep]
     return Decimated(t[kept], x[kept], kept.astype(np.int64), piece[keep])
+
+
+def _first_per_group(hit: np.ndarray, group: np.ndarray) -> np.ndarray:
+    """Position of the first True of ``hit`` in each group (``group`` non-decreasing; every group has one)."""
+    pos = np.flatnonzero(hit)
+    g = group[pos]
+    first = np.concatenate(([True], g[1:] != g[:-1]))
+    return pos[first]
