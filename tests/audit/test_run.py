@@ -279,3 +279,15 @@ def test_every_finding_span_lies_inside_the_log(tmp_path_factory: pytest.TempPat
             assert f.t_start <= f.t_end + 1e-12, (f.code, f.message)
         for i in (f.i_start, f.i_end):
             assert i is None or 0 <= i < n_max, (f.code, f.message)
+
+
+def test_a_caution_that_could_not_be_applied_is_reported(tmp_path: Path) -> None:
+    protocol = logmaker.protocol_variant(
+        tmp_path,
+        ("      elbow_flexion: {min: 15 deg, max: 135 deg, date: 2027-01-20, method: goniometry}\n", ""),
+    )
+    r = audit(protocol, SAMPLES, participant="AV-P01")
+    (f,) = [f for f in r.findings if f.code == "Q197"]
+    assert (f.kind, f.severity, f.subject) == (Kind.NOT_ASSESSABLE, Severity.ERROR, "elbow_flexion")
+    assert "caution 'spasticity'" in f.message and "measured range of motion" in f.message
+    assert r.exit_code(Severity.ERROR) == 1

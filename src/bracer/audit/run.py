@@ -33,6 +33,7 @@ if TYPE_CHECKING:
     from bracer.audit.quality.coverage import Coverage
     from bracer.protocol.load import LoadedProtocol
     from bracer.protocol.model import Protocol
+    from bracer.protocol.resolve import ResolveProblem
     from bracer.session.model import InputFile
 
 __all__ = ["CAUTION", "AuditResult", "audit"]
@@ -43,6 +44,15 @@ CAUTION = (
     "session. Decisions rest with the responsible clinician, the ethics committee and local regulations."
 )
 
+UNRESOLVED = register(
+    Check(
+        "Q197",
+        "limit-not-resolved",
+        "A caution or override of the participant could not be applied: the limits audited are not the ones "
+        "intended.",
+        Severity.ERROR,
+    )
+)
 UNAVAILABLE = register(
     Check(
         "Q198",
@@ -222,7 +232,8 @@ def audit(
     if path is not None:
         inputs = (InputFile(str(path), sha256_file(path), path.stat().st_size, "yaml"), *inputs)
     summary, trouble = _summary(ctx) if available else (None, [])
-    findings = sorted((*quality.findings, *limit_findings, *trouble), key=_order)
+    unresolved = [_unresolved(p) for p in resolution.problems]
+    findings = sorted((*unresolved, *quality.findings, *limit_findings, *trouble), key=_order)
     return AuditResult(
         findings=tuple(findings),
         coverage=quality.coverage,
@@ -302,6 +313,21 @@ def _limit_checks(ctx: AuditContext) -> tuple[list[Finding], tuple[str, ...], bo
             raise TypeError(f"check {code} returned {type(bad[0]).__name__}, expected Finding")
         findings += found
     return findings, tuple(codes), True
+
+
+def _unresolved(problem: ResolveProblem) -> Finding:
+    severity = Severity.ERROR if problem.severity == "error" else Severity.WARNING
+    return Finding(
+        UNRESOLVED.code,
+        UNRESOLVED.name,
+        severity,
+        Kind.NOT_ASSESSABLE,
+        f"{problem.source_kind} '{problem.source}' could not be applied to {problem.target}: "
+        f"{problem.message}; "
+        "the limits this audit used there are not the ones the protocol intends for this participant",
+        subject=problem.target,
+        extra=(("source", problem.source), ("source_kind", problem.source_kind)),
+    )
 
 
 def _unavailable(reason: str) -> Finding:
