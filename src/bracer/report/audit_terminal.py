@@ -261,33 +261,44 @@ def _coverage(result: AuditResult) -> RenderableType:
 
 
 def _summary(summary: Any) -> RenderableType | None:
+    """The summary figures the limit checks provide (read by name: a figure they do not give is left out)."""
     if summary is None or not hasattr(summary, "to_dict"):
         return None
     d = summary.to_dict()
-    lines = [Text("Session figures", style="bold")]
-    head = [f"duration {format_number(d.get('duration', 0.0))} s"]
+
+    def num(x: Any, unit: str = "") -> str:
+        return (
+            "–"
+            if not isinstance(x, int | float)
+            else f"{format_number(float(x))}{' ' + unit if unit else ''}"
+        )
+
+    head = [f"duration {num(d.get('duration'), 's')}"]
     if d.get("active_time") is not None:
-        head.append(f"active {format_number(d['active_time'])} s ({d.get('activity_note', '')})")
-    head.append(f"stops {d.get('stops', 0)}")
-    lines.append(_t("  " + " · ".join(head)))
+        head.append(f"active {num(d.get('active_time'), 's')} ({d.get('activity_note', '')})")
+    head.append(f"stops {d.get('stops', '–')}")
+    lines: list[RenderableType] = [Text("Session figures", style="bold"), _t("  " + " · ".join(head))]
     for c in d.get("contacts", ()):
+        unit = c.get("unit", "")
         if c.get("peak") is None:
-            lines.append(_t(f"  {c['contact']}: force not available ({c.get('note', '')})"))
+            lines.append(_t(f"  {c.get('contact')}: force not available ({c.get('note', '')})"))
         else:
+            at = f" at {c['t_peak']:.3f} s" if isinstance(c.get("t_peak"), int | float) else ""
             lines.append(
                 _t(
-                    f"  {c['contact']}: peak force {format_number(c['peak'])} {c['unit']} at "
-                    f"{c['t_peak']:.3f} s, RMS {format_number(c['rms'])} {c['unit']}"
+                    f"  {c.get('contact')}: peak force {num(c.get('peak'), unit)}{at}, "
+                    f"RMS {num(c.get('rms'), unit)}"
                 )
             )
     for j in d.get("joints", ()):
+        unit = j.get("unit", "")
         if j.get("min") is None:
-            lines.append(_t(f"  {j['joint']}: position not available"))
+            lines.append(_t(f"  {j.get('joint')}: position not available"))
         else:
             lines.append(
                 _t(
-                    f"  {j['joint']}: range used {format_number(j['min'])} to {format_number(j['max'])} "
-                    f"{j['unit']} ({format_number(j['range_used'])} {j['unit']})"
+                    f"  {j.get('joint')}: range used {num(j.get('min'))} to {num(j.get('max'), unit)} "
+                    f"({num(j.get('range_used'), unit)})"
                 )
             )
     return Group(*lines)
@@ -298,12 +309,12 @@ def _statement(result: AuditResult, fail_on: Severity | None) -> RenderableType:
     style = (
         "bold red" if worst == Severity.ERROR else ("bold yellow" if worst == Severity.WARNING else "bold")
     )
-    lines = [Text("══ " + result.statement, style=style)]
+    lines: list[RenderableType] = [Text("══ " + result.statement, style=style)]
     if fail_on is not None:
         code = result.exit_code(fail_on)
         why = f"findings at or above {fail_on.label}" if code else f"no finding at or above {fail_on.label}"
         lines.append(_t(f"   exit {code}: {why}", "dim"))
-    lines.append(_t("   " + result.caution, "italic"))
+    lines.append(Padding(_t(result.caution, "italic"), (0, 0, 0, 3)))
     return Group(*lines)
 
 
