@@ -2,8 +2,8 @@
 printed by ``bracer schema audit-record``).
 
 The record is built from the same :class:`~bracer.audit.run.AuditResult` as the terminal summary, so the two
-cannot disagree.  Numbers that are not finite become null (JSON has no NaN).  This module imports nothing heavy:
-printing the schema must stay fast.
+cannot disagree.  Numbers that are not finite become null (JSON has no NaN).  This module imports nothing
+heavy: printing the schema must stay fast.
 """
 
 from __future__ import annotations
