@@ -358,10 +358,11 @@ def _panel(panel: Panel, chart: Chart, top: float, uid: str) -> list[str]:
             'stroke-width="0.6"/>'
         )
         out.append(_text(x0 - 5, y + 3.5, _tick_text(v, step), size=9.5, anchor="end"))
-    tticks = nice_ticks(chart.t0, chart.t1, 6)
+    scale = _time_scale(chart)
+    tticks = nice_ticks(chart.t0 / scale, chart.t1 / scale, 6)
     tstep = tticks[1] - tticks[0] if len(tticks) > 1 else 1.0
     for t in tticks:
-        x = px(t)
+        x = px(t * scale)
         out.append(
             f'<line x1="{_n(x)}" y1="{_n(y_top)}" x2="{_n(x)}" y2="{_n(y_bot)}" stroke="{_GRID}" '
             'stroke-width="0.6"/>'
@@ -482,6 +483,15 @@ def _panel(panel: Panel, chart: Chart, top: float, uid: str) -> list[str]:
     return out
 
 
+#: Time axes longer than this are labelled in minutes.
+MINUTES_FROM = 900.0
+
+
+def _time_scale(chart: Chart) -> float:
+    """Seconds per unit of the time axis' labels: 60 for a long span (minutes), else 1."""
+    return 60.0 if chart.t1 - chart.t0 > MINUTES_FROM else 1.0
+
+
 def _chart(chart: Chart, uid: str) -> tuple[list[str], float]:
     parts: list[str] = []
     top = TOP
@@ -489,7 +499,8 @@ def _chart(chart: Chart, uid: str) -> tuple[list[str], float]:
         parts += _panel(panel, chart, top, uid)
         top += PANEL_H + GAP
     height = top - GAP + BOTTOM
-    parts.append(_text((LEFT + WIDTH - RIGHT) / 2, height - 8, chart.xlabel, size=10.5, anchor="middle"))
+    xlabel = chart.xlabel.replace("(s)", "(min)") if _time_scale(chart) == 60.0 else chart.xlabel
+    parts.append(_text((LEFT + WIDTH - RIGHT) / 2, height - 8, xlabel, size=10.5, anchor="middle"))
     return parts, height
 
 
