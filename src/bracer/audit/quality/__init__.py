@@ -5,6 +5,27 @@ Each check is a module with a registered :class:`~bracer.findings.Check` (codes 
 runs them in :data:`ORDER` -- each sees the masks of those before it -- then sets the session's
 ``time_valid`` and ``channel_valid`` masks that the limit checks read through ``Session.signal``, and
 measures the analysed coverage.
+
+=====  ==================  ============================================================================
+code   name                what it finds (default severity; what it marks not analysed)
+=====  ==================  ============================================================================
+Q101   missing-column      a column the protocol names is in no file (error, not assessable)
+Q102   dropped-row         a malformed last row was left out, e.g. a truncated last line (warning)
+Q103   time-order          time steps back (error), repeats or is missing (warning); those samples
+Q104   time-gap            a step longer than ``audit.gap_tolerance`` × the declared period (warning)
+Q105   sample-rate         measured rate > 1 % off the declared one, or jitter > 25 % of the period
+Q106   missing-values      NaN / empty runs: info within the gap tolerance, else warning; a channel with
+                           no value at all is not assessable (error)
+Q107   constant-channel    one value for the whole session (warning); the whole channel
+Q108   saturation          flat at the channel's largest/smallest value ≥ 10 samples and 20 ms (warning)
+Q109   force-offset        force at rest above ``audit.force_offset_tolerance`` (warning)
+Q110   unit-suspect        values that do not fit the declared unit (error or warning); the channel, or
+                           the stream for a time unit
+Q111   empty-stream        fewer than two samples (error, not assessable)
+=====  ==================  ============================================================================
+
+The orchestrator (:mod:`bracer.audit.run`) adds Q197 limit-not-resolved, Q198 limit-checks-unavailable and
+Q199 check-failed.
 """
 
 from __future__ import annotations
