@@ -15,6 +15,7 @@ from typing import TYPE_CHECKING, Any
 from bracer.errors import InputError
 from bracer.report.classes import Declared, summarise_classes
 from bracer.report.document import (
+    STATEMENTS,
     CautionEntry,
     ClassSummary,
     CoverageBlock,
@@ -430,4 +431,6 @@ def build_document(
         figure_notes=tuple(fnotes),
         sign_off=SignOff(SIGN_OFF_ROLES),
         sources={"review": review.data if review else None, "audit": audit.data if audit else None},
+        # the sentence about analysed data belongs to reports that analysed data
+        statements=STATEMENTS if audit is not None else STATEMENTS[:2],
     )

@@ -25,6 +25,7 @@ from bracer.report.sections import (
     finding_table,
     incident_table,
     input_table,
+    no_change_text,
     review_check_table,
     review_finding_table,
     review_lines,
@@ -235,7 +236,7 @@ def render_html(doc: Document) -> str:
             if entry.changes:
                 out += _table(caution_table(entry.changes))
             else:
-                out.append("<p>Changes no limit.</p>")
+                out.append(f"<p>{e(no_change_text(entry))}</p>")
         out.append("<h3>Review findings</h3>")
         rt = review_finding_table(doc)
         if rt.rows:

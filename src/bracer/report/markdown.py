@@ -20,6 +20,7 @@ from bracer.report.sections import (
     finding_table,
     incident_table,
     input_table,
+    no_change_text,
     review_check_table,
     review_finding_table,
     review_lines,
@@ -111,7 +112,7 @@ def render_markdown(doc: Document, plots_dir: str) -> tuple[str, dict[str, str]]
             out += [f"**{esc(caution_heading(entry))}**", ""]
             if entry.text:
                 out += [f"*{esc(entry.text)}*", ""]
-            out += _table(caution_table(entry.changes)) if entry.changes else ["Changes no limit.", ""]
+            out += _table(caution_table(entry.changes)) if entry.changes else [esc(no_change_text(entry)), ""]
         out += ["### Review findings", ""]
         table = review_finding_table(doc)
         out += _table(table) if table.rows else ["The review reported no finding.", ""]

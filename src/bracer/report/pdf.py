@@ -27,6 +27,7 @@ from bracer.report.sections import (
     finding_table,
     incident_table,
     input_table,
+    no_change_text,
     review_check_table,
     review_finding_table,
     review_lines,
@@ -59,7 +60,7 @@ _PREAMBLE = """\
 #show figure.caption: set align(left)
 #show figure.caption: set text(size: 8.5pt)
 #show link: it => underline(offset: 1.5pt, stroke: 0.4pt, it)
-#let sev(s) = box(inset: (x: 2pt, y: 1pt), outset: (y: 1pt), radius: 1.5pt,
+#let sev(s) = box(inset: (x: 2pt, y: 1.2pt), baseline: 1.2pt, radius: 1.5pt,
   stroke: if s == "ERROR" {{ 1.1pt }} else if s == "WARNING" {{ (thickness: 0.7pt, dash: "dashed") }}
     else {{ 0.4pt + luma(120) }},
   text(size: 6.8pt, weight: if s == "ERROR" {{ "bold" }} else {{ "regular" }}, s))
@@ -250,7 +251,7 @@ def render_typst(doc: Document, plots_dir: str = "plots") -> tuple[str, dict[str
             if entry.changes:
                 out.append(_table(caution_table(entry.changes), columns="(auto, auto, auto, 1fr)"))
             else:
-                out.append(_p("Changes no limit."))
+                out.append(_p(no_change_text(entry)))
         out.append(f"=== #{q('Review findings')}")
         rt = review_finding_table(doc)
         if rt.rows:

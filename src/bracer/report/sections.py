@@ -274,3 +274,10 @@ def caution_table(changes: Sequence[LimitChange]) -> Table:
 def caution_heading(entry: CautionEntry) -> str:
     text = entry.source + (f" — {entry.population}" if entry.population else "")
     return text + ("" if entry.applied else " (listed, not applied: nominal review)")
+
+
+def no_change_text(entry: CautionEntry) -> str:
+    """What to say under a caution that changed no limit."""
+    if not entry.applied:
+        return "Not applied: this review is of the nominal protocol, for no participant."
+    return "Changes no limit."
