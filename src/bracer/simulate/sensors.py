@@ -56,6 +56,6 @@ def measure(
     noisy = x + offset
     if model.noise > 0:  # single-precision draws: twice as fast, and noise needs no more digits
         noise = rng.standard_normal(x.shape[0], dtype=np.float32)
-        noise *= np.float32(model.noise)
+        noise *= np.float32(model.noise)  # type: ignore[assignment]  # in-place keeps float32
         noisy += noise
     return _quantise_into(noisy, model.step), offset
