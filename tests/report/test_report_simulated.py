@@ -105,3 +105,14 @@ def test_the_logging_gap_is_named_as_not_analysed(simulated) -> None:  # type: i
     dq = next(c for c in doc.summary if c.key == "data_quality")
     assert dq.events >= 1
     assert doc.coverage is not None and doc.coverage.fraction < 1.0
+
+
+def test_every_finding_with_a_time_links_to_a_plot_that_shows_it(simulated) -> None:  # type: ignore[no-untyped-def]
+    doc, _ = simulated
+    ids = {f.id for f in doc.figures}
+    for f in doc.findings:
+        if f.t_start is not None:
+            assert f.plot in ids, f"{f.ref} ({f.code}) has no plot"
+    gap = next(f for f in doc.findings if f.code == "Q104")
+    chart = doc.figure(gap.plot).chart
+    assert any(sp.label == gap.ref for p in chart.panels for sp in p.spans)  # the gap is marked where it is

@@ -126,6 +126,25 @@ class _Builder:
         self.t1 = max(ends, default=1.0)
         if self.t1 <= self.t0:
             self.t1 = self.t0 + 1.0
+        self.home = self._homes()
+
+    def _homes(self) -> dict[str, str]:
+        """For each finding without a joint or contact (e.g. a gap in a stream), the overview that shows it:
+        the first joint, else the first contact, logged on the finding's stream."""
+        first: dict[str, str] = {}
+        for name, joint in self.protocol.joints.items():
+            ref = joint.channels.position or joint.channels.velocity or joint.channels.torque
+            if ref is not None:
+                first.setdefault(ref.stream, f"joint-{name}")
+        for name, contact in self.protocol.contacts.items():
+            if contact.channels.force is not None:
+                first.setdefault(contact.channels.force.stream, f"contact-{name}")
+        homes = {}
+        for f in self.findings:
+            stream = f.get("stream")
+            if f.subject is None and f.kind in ("data_quality", "not_assessable") and stream in first:
+                homes[f.ref] = first[stream]
+        return homes
 
     def gap(self, stream: str) -> float | None:
         s = self.ctx.session.streams.get(stream)
@@ -228,24 +247,33 @@ class _Builder:
         joint = self.protocol.joints[name]
         panels = []
         markers = self.stop_markers(self.t0, self.t1)
-        for panel in ("position", "speed", "torque"):
-            spans = self.spans_for(name, _JOINT_PANEL, panel)
-            panels.append(self.joint_panel(name, panel, self.t0, self.t1, spans, markers))
         fid = f"joint-{name}"
+        notes = self.stream_notes(fid)
+        for panel in ("position", "speed", "torque"):
+            spans = self.spans_for(name, _JOINT_PANEL, panel) + notes
+            panels.append(self.joint_panel(name, panel, self.t0, self.t1, spans, markers))
         self.figures.append(
             Figure(
                 fid,
                 f"Joint {name}: position, speed and torque",
                 f"{joint.motion}; + {joint.positive} / − {joint.negative}. Position against every range "
-                "layer and "
-                "the participant's range; speed and torque against their limits in each direction.",
+                "layer and the participant's range; speed and torque against their limits in each direction.",
                 Chart(tuple(panels), self.t0, self.t1),
                 "overview",
             )
         )
         for f in self.findings:
-            if f.subject == name and f.ref not in self.links and f.quantity in _JOINT_PANEL:
+            if f.subject == name and f.ref not in self.links:
                 self.links[f.ref] = fid
+
+    def stream_notes(self, fid: str) -> list[Span]:
+        """Spans of the session-wide findings (a gap, dropped rows …) shown on figure ``fid``: each is drawn
+        on the first overview of a joint or contact logged on its stream, and linked to it."""
+        return [
+            Span(f.t_start, f.t_end if f.t_end is not None else f.t_start, f.ref, "note")
+            for f in self.findings
+            if self.home.get(f.ref) == fid and f.t_start is not None
+        ]
 
     # ------------------------------------------------------------------------------------ contact panels
 
@@ -298,9 +326,9 @@ class _Builder:
     def contact_overview(self, name: str) -> None:
         contact = self.protocol.contacts[name]
         panel_of = dict.fromkeys(_CONTACT_Q, "force")
-        spans = self.spans_for(name, panel_of, "force")
-        panel = self.contact_panel(name, self.t0, self.t1, spans, self.stop_markers(self.t0, self.t1))
         fid = f"contact-{name}"
+        spans = self.spans_for(name, panel_of, "force") + self.stream_notes(fid)
+        panel = self.contact_panel(name, self.t0, self.t1, spans, self.stop_markers(self.t0, self.t1))
         region = _REGION_WORDS.get(contact.body_region, contact.body_region.replace("_", " "))
         if contact.specific_area:
             region += f" ({contact.specific_area})"
@@ -309,10 +337,8 @@ class _Builder:
                 fid,
                 f"Contact {name}: force magnitude",
                 f"{contact.kind} on the {region}, area {contact.area}. Force against the quasi-static and "
-                "transient "
-                "limits; the sustained-force level and the force each pressure limit corresponds to "
-                "(pressure × "
-                "contact area) as lines.",
+                "transient limits; the sustained-force level and the force each pressure limit corresponds "
+                "to (pressure × contact area) as lines.",
                 Chart((panel,), self.t0, self.t1),
                 "overview",
             )
@@ -517,6 +543,7 @@ def build_figures(ctx: AuditContext, findings: Sequence[FindingRow], stops: Sequ
         b.joint_overview(name)
     for name in b.protocol.contacts:
         b.contact_overview(name)
+    b.links.update({ref: fid for ref, fid in b.home.items() if ref not in b.links})
     b.latency_chart()
     for s in stops:
         b.stop_zoom(s)
