@@ -210,6 +210,7 @@ def motion(ctx: AuditContext, stream: str, threshold: float) -> Motion | Unavail
         joints: list[str] = []
         missing: list[tuple[str, Unavailable]] = []
         derived: list[tuple[str, Derivative]] = []
+        speed: np.ndarray | None = None  # scratch for |v|, shared by the joints on this clock
         for name in ctx.resolution.protocol.joints:
             sp = joint_signal(ctx, name, "speed")
             if isinstance(sp, Unavailable):
@@ -218,8 +219,10 @@ def motion(ctx: AuditContext, stream: str, threshold: float) -> Motion | Unavail
             joints.append(name)
             if sp.derivation is not None:
                 derived.append((name, sp.derivation))
-            fast = np.greater(sp.x, threshold)
-            fast |= np.less(sp.x, -threshold)  # NaN compares False: an invalid sample is never "fast"
+            if speed is None or speed.shape != sp.x.shape:
+                speed = np.empty(sp.x.shape, dtype=np.float64)
+            np.abs(sp.x, out=speed)
+            fast = np.greater(speed, threshold)  # NaN compares False: an invalid sample is never "fast"
             all_valid = bool(sp.valid.all())
             if not all_valid:
                 fast &= sp.valid

@@ -27,6 +27,7 @@ Per episode
 
 from __future__ import annotations
 
+from collections.abc import Callable
 from dataclasses import dataclass
 
 import numpy as np
@@ -36,10 +37,14 @@ from bracer.audit.checks._joint import Motion, joint_signal, joint_stream, motio
 from bracer.audit.checks._limits import exceedances, limit_specs
 from bracer.audit.context import AuditContext
 from bracer.audit.derive import sample_period
-from bracer.audit.events import first_sustained, hold_last, runs
+from bracer.audit.events import first_sustained_where, hold_last, runs
 from bracer.protocol.model import TriggerChannel
 
 __all__ = ["Episode", "JointStop", "StopAnalysis", "Trigger", "stop_analysis", "trigger_active"]
+
+#: Whether a condition holds at samples ``lo .. hi - 1`` (see :func:`first_sustained_where`).
+Condition = Callable[[int, int], np.ndarray]
+
 
 _TRIGGER_WORDS = {
     "emergency_stop": "emergency stop",
@@ -243,11 +248,11 @@ def _analyse(ctx: AuditContext) -> StopAnalysis:
     )
     no_standstill = mot if isinstance(mot, Unavailable) else None
     standstill_missing = () if isinstance(mot, Unavailable) else mot.missing
-    still_runs = runs(mot.still) if not isinstance(mot, Unavailable) else None
     dt = sample_period(mot.t) if not isinstance(mot, Unavailable) else float("nan")
 
+    # Standstill and torque off are searched from each trigger on (first_sustained_where), not over the log.
     torque_missing: list[tuple[str, Unavailable]] = []
-    off_runs: dict[str, tuple[str, np.ndarray, tuple[np.ndarray, np.ndarray]]] = {}
+    torque_of: dict[str, tuple[str, np.ndarray, Condition]] = {}
     level = stop.torque_off.level.si if stop.torque_off is not None else None
     if level is not None:
         for name in p.joints:
@@ -255,9 +260,7 @@ def _analyse(ctx: AuditContext) -> StopAnalysis:
             if isinstance(tq, Unavailable):
                 torque_missing.append((name, tq))
                 continue
-            off = np.abs(tq.x) <= level
-            off &= tq.valid
-            off_runs[name] = (tq.stream, tq.t, runs(off))
+            torque_of[name] = (tq.stream, tq.t, _torque_off(tq.x, tq.valid, level))
 
     hold = stop.standstill.hold.si
     episodes: list[Episode] = []
@@ -273,10 +276,10 @@ def _analyse(ctx: AuditContext) -> StopAnalysis:
             folded = []
         t_still: float | None = None
         i_still: int | None = None
-        if not isinstance(mot, Unavailable) and still_runs is not None:
+        if not isinstance(mot, Unavailable):
             i0 = _start_on(mot.stream, mot.t, trig)
             if i0 < mot.t.shape[0]:
-                i_still = first_sustained(mot.t, *still_runs, i0, hold)
+                i_still = first_sustained_where(mot.t, _still(mot), i0, hold)
                 t_still = float(mot.t[i_still]) if i_still is not None else None
         still = (
             None
@@ -285,9 +288,9 @@ def _analyse(ctx: AuditContext) -> StopAnalysis:
         )
         joints = tuple(_joint_stop(ctx, name, trig, still, stop.standstill.speed.si) for name in p.joints)
         torque_off: list[tuple[str, float | None]] = []
-        for name, (tq_stream, tt, (starts, ends)) in off_runs.items():
+        for name, (tq_stream, tt, is_off) in torque_of.items():
             k0 = _start_on(tq_stream, tt, trig)
-            k = first_sustained(tt, starts, ends, k0, hold) if k0 < tt.shape[0] else None
+            k = first_sustained_where(tt, is_off, k0, hold) if k0 < tt.shape[0] else None
             torque_off.append((name, float(tt[k]) if k is not None else None))
         episodes.append(
             Episode(
@@ -313,6 +316,28 @@ def _analyse(ctx: AuditContext) -> StopAnalysis:
         tuple(standstill_missing),
         tuple(torque_missing),
     )
+
+
+def _still(mot: Motion) -> Condition:
+    """Every assessed joint known to be below the standstill speed (``Motion.still``, on a slice)."""
+
+    def at(lo: int, hi: int) -> np.ndarray:
+        still = ~mot.moving[lo:hi]
+        still &= mot.known[lo:hi]
+        return still
+
+    return at
+
+
+def _torque_off(x: np.ndarray, valid: np.ndarray, level: float) -> Condition:
+    """``|torque| <= level`` at valid samples, on a slice."""
+
+    def at(lo: int, hi: int) -> np.ndarray:
+        off = np.abs(x[lo:hi]) <= level
+        off &= valid[lo:hi]
+        return off
+
+    return at
 
 
 def _with_folded(ep: Episode, folded: list[Trigger]) -> Episode:
