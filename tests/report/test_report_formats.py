@@ -220,3 +220,12 @@ def test_no_format_states_safe_or_passed(
 def test_the_verdict_check_can_fail() -> None:
     assert VERDICT.search("The session passed.") and VERDICT.search("device is SAFE")
     assert not VERDICT.search("safety state, passive range, bypass")
+
+
+def test_the_pdf_is_reproducible_too(review_doc, tmp_path: Path) -> None:  # type: ignore[no-untyped-def]
+    # Typst's bundled fonts only and the analysis time as the PDF's creation date: the same bytes each time.
+    from bracer.report.pdf import write_pdf
+
+    write_pdf(review_doc, tmp_path / "a.pdf")
+    write_pdf(review_doc, tmp_path / "b.pdf")
+    assert (tmp_path / "a.pdf").read_bytes() == (tmp_path / "b.pdf").read_bytes()
