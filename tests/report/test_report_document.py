@@ -259,3 +259,24 @@ def test_contact_force_incident_states_peak_and_limit() -> None:
     )
     assert inc.event == "contact force over its limit on upper_arm_cuff (peak 104.3 N, limit 90 N)"
     assert inc.t == 52.9
+
+
+def test_the_review_section_shows_the_body_region_reference_values(review_doc) -> None:  # type: ignore[no-untyped-def]
+    rows = review_doc.review.contact_references
+    refs = {(r.contact, r.limit, r.basis): (r.reference, r.unit) for r in rows}
+    # ISO/TS 15066:2016 Annex A Table A.2 (transcribed, [C2]): upper arm and elbow quasi-static force 150 N,
+    # deltoid muscle 190 N/cm^2; lower arm and wrist 160 N, forearm muscle 180 N/cm^2; transient 2 x quasi-static.
+    assert refs[("upper_arm_cuff", "force quasi-static", "limit")] == (150.0, "N")
+    assert refs[("upper_arm_cuff", "force transient", "limit")] == (300.0, "N")
+    assert refs[("upper_arm_cuff", "pressure quasi-static", "limit")] == (190.0, "N/cm^2")
+    assert refs[("forearm_cuff", "force quasi-static", "limit")] == (160.0, "N")
+    assert refs[("forearm_cuff", "pressure quasi-static", "limit")] == (180.0, "N/cm^2")
+
+
+def test_the_review_section_shows_every_range_layer(review_doc) -> None:  # type: ignore[no-untyped-def]
+    rows = {(r.joint, r.direction): r for r in review_doc.review.ranges}
+    elbow = rows[("elbow_flexion", "positive")]
+    # the example protocol's elbow layers (protocols/alder4-upper-limb.yaml) and the AAOS normative elbow
+    # flexion of 150 deg (Norkin & White appendix table, [C2]) for the nominal review
+    assert (elbow.planned, elbow.device, elbow.mechanical, elbow.participant) == (120.0, 130.0, 140.0, 150.0)
+    assert elbow.source == "normative"

@@ -18,6 +18,7 @@ from bracer.report.document import (
     STATEMENTS,
     CautionEntry,
     ClassSummary,
+    ContactReferenceRow,
     CoverageBlock,
     Document,
     Figure,
@@ -25,6 +26,7 @@ from bracer.report.document import (
     Incident,
     LimitChange,
     Provenance,
+    RangeRow,
     RecordNote,
     ReviewCheckLine,
     ReviewFindingRow,
@@ -326,6 +328,7 @@ def _review_section(review: dict[str, Any]) -> ReviewSection:
     )
     summary = review.get("summary") or {}
     counts = (int(summary.get("error") or 0), int(summary.get("warning") or 0), int(summary.get("info") or 0))
+    tables = {c.get("code"): c.get("tables") or {} for c in review.get("checks") or []}
     return ReviewSection(
         review.get("participant"),
         counts,
@@ -333,6 +336,35 @@ def _review_section(review: dict[str, Any]) -> ReviewSection:
         findings,
         tuple(cautions),
         str(review.get("statement") or ""),
+        ranges=tuple(_range_row(r) for r in tables.get("R102", {}).get("protection") or []),
+        contact_references=tuple(_reference_row(r) for r in tables.get("R104", {}).get("references") or []),
+    )
+
+
+def _range_row(r: dict[str, Any]) -> RangeRow:
+    return RangeRow(
+        joint=str(r.get("joint")),
+        direction=str(r.get("direction")),
+        planned=_num(r.get("planned")),
+        device=_num(r.get("device")),
+        mechanical=_num(r.get("mechanical")),
+        participant=_num(r.get("participant")),
+        source=r.get("source"),
+        unit=str(r.get("unit") or ""),
+        layers=str(r.get("layers") or ""),
+    )
+
+
+def _reference_row(r: dict[str, Any]) -> ContactReferenceRow:
+    return ContactReferenceRow(
+        contact=str(r.get("contact")),
+        area=r.get("specific_area"),
+        limit=f"{r.get('quantity')} {str(r.get('item') or '').replace('_', '-')}",
+        basis=str(r.get("basis") or ""),
+        value=float(r.get("value") or 0.0),
+        reference=float(r.get("reference") or 0.0),
+        unit=str(r.get("unit") or ""),
+        ratio=_num(r.get("ratio")),
     )
 
 

@@ -23,6 +23,7 @@ __all__ = [
     "STATEMENTS",
     "CautionEntry",
     "ClassSummary",
+    "ContactReferenceRow",
     "CoverageBlock",
     "Document",
     "Figure",
@@ -30,6 +31,7 @@ __all__ = [
     "Incident",
     "LimitChange",
     "Provenance",
+    "RangeRow",
     "RecordNote",
     "ReviewCheckLine",
     "ReviewFindingRow",
@@ -217,6 +219,35 @@ class CautionEntry:
 
 
 @dataclass(frozen=True, slots=True)
+class RangeRow:
+    """One end of a joint's range: every layer's limit and the participant's range, in ``unit``."""
+
+    joint: str
+    direction: str
+    planned: float | None
+    device: float | None
+    mechanical: float | None
+    participant: float | None
+    source: str | None  # measured, normative, or None when unknown
+    unit: str
+    layers: str  # what keeps the joint inside the participant's range: "controller only", ...
+
+
+@dataclass(frozen=True, slots=True)
+class ContactReferenceRow:
+    """A contact limit against its ISO/TS 15066 Annex A reference value (healthy adults, not clinical)."""
+
+    contact: str
+    area: str | None
+    limit: str  # "force quasi_static"
+    basis: str
+    value: float
+    reference: float
+    unit: str
+    ratio: float | None  # None: no transient contact permissible in the region
+
+
+@dataclass(frozen=True, slots=True)
 class ReviewSection:
     participant: str | None
     counts: tuple[int, int, int]  # error, warning, info
@@ -224,6 +255,8 @@ class ReviewSection:
     findings: tuple[ReviewFindingRow, ...]
     cautions: tuple[CautionEntry, ...]
     statement: str
+    ranges: tuple[RangeRow, ...] = ()
+    contact_references: tuple[ContactReferenceRow, ...] = ()
 
 
 @dataclass(frozen=True, slots=True)

@@ -17,6 +17,7 @@ from bracer.report.sections import (
     HEADINGS,
     INCIDENT_INTRO,
     NO_INCIDENTS,
+    REFERENCE_CAVEAT,
     SIGN_OFF_INTRO,
     Table,
     caution_heading,
@@ -26,6 +27,8 @@ from bracer.report.sections import (
     incident_table,
     input_table,
     no_change_text,
+    range_table,
+    reference_table,
     review_check_table,
     review_finding_table,
     review_lines,
@@ -226,6 +229,17 @@ def render_html(doc: Document) -> str:
         out.append(f'<h2 id="review">{e(HEADINGS["review"])}</h2>')
         out += [f"<p>{e(line)}</p>" for line in review_lines(doc)]
         out += _table(review_check_table(doc), numeric=(3, 4, 5))
+        if doc.review.ranges:
+            out.append(f"<h3>{e(HEADINGS['ranges'])}</h3>")
+            out += _table(
+                range_table(doc),
+                numeric=(2, 3, 4),
+                row_class=["hit" if r.layers == "controller only" else "" for r in doc.review.ranges],
+            )
+        if doc.review.contact_references:
+            out.append(f"<h3>{e(HEADINGS['references'])}</h3>")
+            out += _table(reference_table(doc), numeric=(3, 4, 5))
+            out.append(f"<p>{e(REFERENCE_CAVEAT)}</p>")
         out.append(f"<h3>{e(HEADINGS['cautions'])}</h3>")
         if not doc.review.cautions:
             out.append("<p>No caution or override applies.</p>")

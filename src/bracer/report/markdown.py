@@ -12,6 +12,7 @@ from bracer.report.sections import (
     HEADINGS,
     INCIDENT_INTRO,
     NO_INCIDENTS,
+    REFERENCE_CAVEAT,
     SIGN_OFF_INTRO,
     Table,
     caution_heading,
@@ -21,6 +22,8 @@ from bracer.report.sections import (
     incident_table,
     input_table,
     no_change_text,
+    range_table,
+    reference_table,
     review_check_table,
     review_finding_table,
     review_lines,
@@ -105,6 +108,16 @@ def render_markdown(doc: Document, plots_dir: str) -> tuple[str, dict[str, str]]
     if doc.review is not None:
         out += [f"## {HEADINGS['review']}", ""] + [esc(line) + "  " for line in review_lines(doc)] + [""]
         out += _table(review_check_table(doc))
+        if doc.review.ranges:
+            out += [f"### {HEADINGS['ranges']}", "", *_table(range_table(doc))]
+        if doc.review.contact_references:
+            out += [
+                f"### {HEADINGS['references']}",
+                "",
+                *_table(reference_table(doc)),
+                esc(REFERENCE_CAVEAT),
+                "",
+            ]
         out += [f"### {HEADINGS['cautions']}", ""]
         if not doc.review.cautions:
             out += ["No caution or override applies.", ""]

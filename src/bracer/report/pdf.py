@@ -19,6 +19,7 @@ from bracer.report.sections import (
     HEADINGS,
     INCIDENT_INTRO,
     NO_INCIDENTS,
+    REFERENCE_CAVEAT,
     SIGN_OFF_INTRO,
     Table,
     caution_heading,
@@ -28,6 +29,8 @@ from bracer.report.sections import (
     incident_table,
     input_table,
     no_change_text,
+    range_table,
+    reference_table,
     review_check_table,
     review_finding_table,
     review_lines,
@@ -241,6 +244,21 @@ def render_typst(doc: Document, plots_dir: str = "plots") -> tuple[str, dict[str
         out.append(
             _table(review_check_table(doc), columns="(auto, auto, 1fr, auto, auto, auto)", numeric=(3, 4, 5))
         )
+        if doc.review.ranges:
+            out.append(f"=== #{q(HEADINGS['ranges'])}")
+            out.append(
+                _table(
+                    range_table(doc),
+                    numeric=(2, 3, 4),
+                    bold_rows=[r.layers == "controller only" for r in doc.review.ranges],
+                )
+            )
+        if doc.review.contact_references:
+            out.append(f"=== #{q(HEADINGS['references'])}")
+            out.append(
+                _table(reference_table(doc), columns="(1fr, auto, auto, auto, auto, auto)", numeric=(3, 4, 5))
+            )
+            out.append(_p(REFERENCE_CAVEAT))
         out.append(f"=== #{q(HEADINGS['cautions'])}")
         if not doc.review.cautions:
             out.append(_p("No caution or override applies."))

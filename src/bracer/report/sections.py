@@ -38,6 +38,8 @@ HEADINGS = {
     "coverage": "Analysed data",
     "review": "Pre-trial review",
     "cautions": "Cautions and overrides applied (before → after)",
+    "ranges": "Range-of-motion limits in force",
+    "references": "Contact limits against ISO/TS 15066 reference values",
     "provenance": "Provenance",
     "standards": "Standards and vocabulary",
     "sign_off": "Sign-off",
@@ -281,3 +283,48 @@ def no_change_text(entry: CautionEntry) -> str:
     if not entry.applied:
         return "Not applied: this review is of the nominal protocol, for no participant."
     return "Changes no limit."
+
+
+#: Under the contact reference table, in every format.
+REFERENCE_CAVEAT = (
+    "Ratios of each limit to the ISO/TS 15066:2016 Annex A value of its body region: reference values from "
+    "healthy adults, not clinical limits; the protocol's own limits govern."
+)
+
+
+def range_table(doc: Document) -> Table:
+    """Range-of-motion limits in force for the participant, per joint end (R102)."""
+    assert doc.review is not None
+    rows = tuple(
+        (
+            r.joint,
+            "+ (positive)" if r.direction == "positive" else "− (negative)",
+            value(r.planned, r.unit),
+            value(r.device, r.unit),
+            value(r.mechanical, r.unit),
+            f"{value(r.participant, r.unit)} ({r.source})" if r.participant is not None else "not known",
+            r.layers,
+        )
+        for r in doc.review.ranges
+    )
+    return Table(
+        ("Joint", "End", "Planned", "Device", "Mechanical", "Participant", "In the participant's range by"),
+        rows,
+    )
+
+
+def reference_table(doc: Document) -> Table:
+    """Contact limits against the ISO/TS 15066 reference values (R104)."""
+    assert doc.review is not None
+    rows = tuple(
+        (
+            r.contact + (f" ({r.area})" if r.area else ""),
+            r.limit,
+            r.basis,
+            value(r.value, r.unit),
+            value(r.reference, r.unit),
+            value(r.ratio, None, 3) if r.ratio is not None else "not permissible",
+        )
+        for r in doc.review.contact_references
+    )
+    return Table(("Contact", "Limit", "Basis", "Value", "Reference", "Ratio"), rows)
