@@ -265,7 +265,8 @@ def test_the_review_section_shows_the_body_region_reference_values(review_doc) -
     rows = review_doc.review.contact_references
     refs = {(r.contact, r.limit, r.basis): (r.reference, r.unit) for r in rows}
     # ISO/TS 15066:2016 Annex A Table A.2 (transcribed, [C2]): upper arm and elbow quasi-static force 150 N,
-    # deltoid muscle 190 N/cm^2; lower arm and wrist 160 N, forearm muscle 180 N/cm^2; transient 2 x quasi-static.
+    # deltoid muscle 190 N/cm^2; lower arm and wrist 160 N, forearm muscle 180 N/cm^2; transient twice the
+    # quasi-static value.
     assert refs[("upper_arm_cuff", "force quasi-static", "limit")] == (150.0, "N")
     assert refs[("upper_arm_cuff", "force transient", "limit")] == (300.0, "N")
     assert refs[("upper_arm_cuff", "pressure quasi-static", "limit")] == (190.0, "N/cm^2")
