@@ -189,9 +189,8 @@ def _title(
     device = None
     if protocol is not None:
         d = protocol.device
-        device = (
-            d.name + (f" ({d.kind})" if d.kind else "") + (f", firmware {d.firmware}" if d.firmware else "")
-        )
+        parts = [d.name, d.kind, d.manufacturer, f"firmware {d.firmware}" if d.firmware else None]
+        device = " · ".join(p for p in parts if p)
     return TitleBlock(
         kind=kind,
         study=pid.study if pid is not None else None,
