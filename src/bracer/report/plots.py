@@ -447,16 +447,13 @@ def _panel(panel: Panel, chart: Chart, top: float, uid: str) -> list[str]:
     for x, label in tops:
         row = row + 1 if x - x_prev < 6.5 * len(label) + 6 else 0
         x_prev = x if row == 0 else x_prev
+        y_label = y_top + 10 + 11 * (row % 3)
+        # a white card under the label, so it reads over hatching (SVG's paint-order is not everywhere)
         out.append(
-            _text(
-                x + 2,
-                y_top + 10 + 10 * (row % 3),
-                label,
-                size=9,
-                weight="bold",
-                extra=' paint-order="stroke" stroke="#ffffff" stroke-width="2.5"',
-            )
+            f'<rect x="{_n(x + 1)}" y="{_n(y_label - 8.5)}" width="{_n(5.8 * len(label) + 3)}" height="11" '
+            'fill="#ffffff" fill-opacity="0.9" stroke="none"/>'
         )
+        out.append(_text(x + 2, y_label, label, size=9, weight="bold"))
     right: list[tuple[float, str, str]] = []
     for y_val, label, style in lines:
         y = py(y_val)
