@@ -1,4 +1,5 @@
-"""The windowed sustained-condition search and the change-point run finder agree with their whole-log forms.
+"""Faster forms of the event machinery agree with references written from their definitions: the windowed
+sustained-condition search, the change-point run finder, and event grouping on long quiet signals.
 
 The references are written out here from their definitions (a padded ``np.diff`` of the mask for the runs;
 the runs of the whole-log mask for the sustained search), so a faster form cannot drift from them.
@@ -11,7 +12,7 @@ from hypothesis import given, settings
 from hypothesis import strategies as st
 from hypothesis.extra.numpy import arrays
 
-from bracer.audit.events import first_sustained, first_sustained_where, runs
+from bracer.audit.events import find_events, first_sustained, first_sustained_where, runs
 
 
 def _runs_by_diff(mask: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
@@ -70,3 +71,55 @@ def test_windowed_search_equals_whole_log_search(
         return mask[lo:hi].copy()
 
     assert first_sustained_where(t, cond, i_from, hold, first_window=first_window) == expected
+
+
+def _oracle(
+    x: np.ndarray, valid: np.ndarray, limit: float, band: float, inclusive: bool
+) -> list[tuple[int, int]]:
+    """Sample-by-sample reference of the hysteresis rule for limits with and without ``inclusive``."""
+
+    def over(v: float) -> bool:
+        return v >= limit if inclusive else v > limit
+
+    def beyond(v: float) -> bool:
+        return v > limit - band if band > 0 else over(v)
+
+    out: list[tuple[int, int]] = []
+    start = None
+    for i, (v, ok) in enumerate(zip(x.tolist(), valid.tolist(), strict=True)):
+        if start is None:
+            if ok and over(v):
+                start = i
+        elif not ok or not beyond(v):
+            out.append((start, i - 1))
+            start = None
+    if start is not None:
+        out.append((start, len(x) - 1))
+    return out
+
+
+@settings(max_examples=150, deadline=None)
+@given(
+    seed=st.integers(0, 2**32 - 1),
+    n=st.integers(50, 3000),
+    spikes=st.integers(0, 12),
+    band=st.sampled_from([0.0, 0.05, 0.3, 1.0]),
+    inclusive=st.booleans(),
+    invalid=st.sampled_from([0.0, 0.01, 0.3]),
+)
+def test_events_on_long_quiet_signals_match_the_reference(
+    seed: int, n: int, spikes: int, band: float, inclusive: bool, invalid: float
+) -> None:
+    # long logs with a few excursions: the over and beyond samples are few (the grouping from their indices)
+    rng = np.random.default_rng(seed)
+    x = np.round(rng.normal(0.0, 0.2, n), 2)
+    for at in rng.integers(0, n, spikes):
+        width = int(rng.integers(1, 40))
+        x[at : at + width] += np.round(rng.uniform(0.5, 2.0), 2)
+    valid = rng.random(n) >= invalid
+    t = np.arange(n) * 0.001
+    limit = 1.0
+    got = [(e.i_start, e.i_end) for e in find_events(t, x, valid, limit, band=band, inclusive=inclusive)]
+    assert got == _oracle(x, valid, limit, band, inclusive)
+    mirrored = find_events(t, -x, valid, -limit, side="below", band=band, inclusive=inclusive)
+    assert [(e.i_start, e.i_end) for e in mirrored] == got

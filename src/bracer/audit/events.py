@@ -104,6 +104,17 @@ def runs(mask: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
     return change[0::2], ends
 
 
+def _runs_of(mask: np.ndarray, idx: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+    """:func:`runs` of ``mask``, given ``idx = np.flatnonzero(mask)``: grouped from the indices when they are
+    few (no further full-length pass), else from the mask's change points."""
+    if idx.shape[0] * 8 >= mask.shape[0]:
+        return runs(mask)
+    breaks = np.flatnonzero(np.diff(idx) != 1)
+    starts = np.concatenate((idx[:1], idx[breaks + 1]))
+    ends = np.concatenate((idx[breaks], idx[-1:]))
+    return starts, ends
+
+
 def hold_last(values: np.ndarray, known: np.ndarray) -> np.ndarray:
     """Carry the last known value of a boolean series across unknown samples (False before the first known).
 
@@ -167,27 +178,53 @@ def find_events(
         In time order.  ``peak`` is the largest value (``above``) or the smallest (``below``).
     """
     above = side == "above"
-    if above:
-        over = np.greater_equal(x, limit) if inclusive else np.greater(x, limit)
-    else:
-        over = np.less_equal(x, limit) if inclusive else np.less(x, limit)
-    over &= valid
-    if not over.any():
-        return ()
-    if band > 0:
+    release = (limit - band if above else limit + band) if band > 0 else limit
+    # Every sample over the limit is beyond the release level -- unless an inclusive limit meets a band below
+    # the limit's float resolution (release == limit), which takes the general path below.
+    over_within = not inclusive or (release < limit if above else release > limit)
+    if band > 0 and over_within:
         # With hysteresis an event starts at a sample over the limit and lasts to the end of the run of valid
-        # samples beyond the release level that holds it (every sample over the limit is beyond the release).
-        release = limit - band if above else limit + band
+        # samples beyond the release level that holds it.  One full-length comparison finds both: the over
+        # samples are among the (usually few) beyond ones.
         beyond = np.greater(x, release) if above else np.less(x, release)
         beyond &= valid
-        run_start, run_end = runs(beyond)
-        over_at, _ = runs(over)  # the first over sample of a run beyond the release starts an over-run
-        j = np.searchsorted(over_at, run_start)
-        has = j < over_at.shape[0]
-        has[has] = over_at[j[has]] <= run_end[has]
-        starts, ends = over_at[j[has]], run_end[has]
+        b_idx = np.flatnonzero(beyond)
+        if b_idx.shape[0] == 0:
+            return ()
+        xb = x[b_idx]
+        if above:
+            is_over = np.greater_equal(xb, limit) if inclusive else np.greater(xb, limit)
+        else:
+            is_over = np.less_equal(xb, limit) if inclusive else np.less(xb, limit)
+        over_idx = b_idx[is_over]
+        if over_idx.shape[0] == 0:
+            return ()
+        run_start, run_end = _runs_of(beyond, b_idx)
+        # the first over sample at or after a run's start, if inside the run, starts the event
+        j = np.searchsorted(over_idx, run_start)
+        has = j < over_idx.shape[0]
+        has[has] = over_idx[j[has]] <= run_end[has]
+        starts, ends = over_idx[j[has]], run_end[has]
     else:
-        starts, ends = runs(over)
+        if above:
+            over = np.greater_equal(x, limit) if inclusive else np.greater(x, limit)
+        else:
+            over = np.less_equal(x, limit) if inclusive else np.less(x, limit)
+        over &= valid
+        o_idx = np.flatnonzero(over)
+        if o_idx.shape[0] == 0:
+            return ()
+        if band > 0:  # inclusive, release == limit: an event starts at the first sample of an over-run
+            release_beyond = np.greater(x, release) if above else np.less(x, release)
+            release_beyond &= valid
+            run_start, run_end = runs(release_beyond)
+            over_at, _ = _runs_of(over, o_idx)
+            j = np.searchsorted(over_at, run_start)
+            has = j < over_at.shape[0]
+            has[has] = over_at[j[has]] <= run_end[has]
+            starts, ends = over_at[j[has]], run_end[has]
+        else:
+            starts, ends = _runs_of(over, o_idx)
     keep = (t[ends] - t[starts]) >= (min_duration - _TIME_EPS)
     starts, ends = starts[keep], ends[keep]
     events = []

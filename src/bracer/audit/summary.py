@@ -19,7 +19,7 @@ from typing import Any
 
 import numpy as np
 
-from bracer.audit.checks._common import Unavailable, in_unit
+from bracer.audit.checks._common import Unavailable, extremes, in_unit
 from bracer.audit.checks._contact import contact_force
 from bracer.audit.checks._joint import angle_unit, joint_signal, joint_stream, motion
 from bracer.audit.checks._stopping import stop_analysis
@@ -75,13 +75,21 @@ class SessionSummary:
         return d
 
 
-def _time_where(t: np.ndarray, mask: np.ndarray) -> float:
-    """Time covered by the samples in ``mask``: each counts the step to the next sample (the last sample the
-    median step), s; steps that go back in time count nothing."""
-    if t.shape[0] < 2:
-        return 0.0
+def _steps(t: np.ndarray) -> np.ndarray:
+    """Each sample's step to the next one, s, shape (n - 1,); steps back in time count 0."""
     steps = np.diff(t)
     np.maximum(steps, 0.0, out=steps)
+    return steps
+
+
+def _time_where(t: np.ndarray, mask: np.ndarray, steps: np.ndarray | None = None) -> float:
+    """Time covered by the samples in ``mask``: each counts the step to the next sample (the last sample the
+    median step), s; steps that go back in time count nothing.  ``steps``: :func:`_steps` of ``t``, when the
+    caller has it already."""
+    if t.shape[0] < 2:
+        return 0.0
+    if steps is None:
+        steps = _steps(t)
     total = float(np.sum(steps, where=mask[:-1]))
     if mask[-1]:
         dt = sample_period(t)
@@ -101,8 +109,9 @@ def _activity(ctx: AuditContext) -> tuple[float | None, float | None, str]:
         return None, None, mot.reason
     tv = ctx.session.time_valid.get(stream)
     known = mot.known if tv is None else (mot.known & tv)
-    active = _time_where(mot.t, mot.moving & known)
-    unknown = _time_where(mot.t, ~known)
+    steps = _steps(mot.t) if mot.t.shape[0] >= 2 else None
+    active = _time_where(mot.t, mot.moving & known, steps)
+    unknown = _time_where(mot.t, ~known, steps)
     note = f"any joint faster than {p.stop.standstill.speed} on stream '{stream}'"
     if mot.missing:
         note += "; without " + ", ".join(j for j, _ in mot.missing) + " (speed not available)"
@@ -114,7 +123,8 @@ def _contact(ctx: AuditContext, name: str) -> ContactFigures:
     cf = contact_force(ctx, name)
     if isinstance(cf, Unavailable):
         return ContactFigures(name, unit, None, None, None, 0.0, cf.reason)
-    k = int(np.argmax(np.where(cf.valid, cf.f, -np.inf)))
+    # all valid (the common case): the plain argmax, no masked copy of the channel
+    k = int(np.argmax(cf.f)) if cf.valid.all() else int(np.argmax(np.where(cf.valid, cf.f, -np.inf)))
     n_valid = int(np.count_nonzero(cf.valid))
     rms = float(np.sqrt(np.sum(np.square(cf.f), where=cf.valid) / n_valid))
     return ContactFigures(
@@ -137,8 +147,9 @@ def _joint(ctx: AuditContext, name: str) -> JointFigures:
     pos = joint_signal(ctx, name, "position")
     if isinstance(pos, Unavailable):
         return JointFigures(name, unit, None, None, None, 0.0, source, note)
-    hi = in_unit(float(np.max(pos.x, where=pos.valid, initial=-np.inf)), unit)
-    lo = in_unit(float(np.min(pos.x, where=pos.valid, initial=np.inf)), unit)
+    ex = extremes(ctx, (name, "position"), pos.x, pos.valid)  # shared with the range checks
+    hi = in_unit(ex.max, unit)
+    lo = in_unit(ex.min, unit)
     coverage = int(np.count_nonzero(pos.valid)) / pos.x.shape[0]
     return JointFigures(name, unit, lo, hi, hi - lo, coverage, source, note)
 

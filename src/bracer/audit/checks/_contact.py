@@ -83,11 +83,12 @@ def _build(ctx: AuditContext, name: str) -> ContactForce | Unavailable:
     else:
         f = np.square(sigs[0].x)
         square = np.empty_like(f)  # one scratch buffer for the other axes
-        valid = sigs[0].valid.copy()
+        valid = sigs[0].valid
         for s in sigs[1:]:
             np.square(s.x, out=square)
             f += square
-            valid &= s.valid
+            if s.valid is not valid:  # axes usually share their stream's mask: no copy then
+                valid = valid & s.valid
         del square
         np.sqrt(f, out=f)
     if not valid.any():
