@@ -146,6 +146,9 @@ class Bounds(Strict):
     def get(self, direction: str) -> Quantity:
         return self.max if direction == "positive" else self.min
 
+    def __str__(self) -> str:
+        return f"[{self.min}, {self.max}]"
+
 
 class Layers(Strict, Generic[T]):
     """One limit per layer; a layer that is not declared is left out."""
