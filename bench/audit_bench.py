@@ -1,4 +1,4 @@
-"""Audit benchmark: the full audit of a one-hour 1 kHz session against a bare pyarrow read of the same columns.
+"""Audit benchmark: the full audit of an hour-long 1 kHz session against a bare pyarrow read of its columns.
 
 Run: python bench/audit_bench.py [--runs N] [--regenerate]
 
@@ -22,6 +22,7 @@ from __future__ import annotations
 
 import argparse
 import json
+import os
 import statistics
 import subprocess
 import sys
@@ -45,6 +46,14 @@ def _peak_mb() -> float:
     return resource.getrusage(resource.RUSAGE_SELF).ru_maxrss / 1024.0  # KiB on Linux
 
 
+def _cpu_s() -> float:
+    """User + system CPU time of this process so far, all threads, s."""
+    import resource
+
+    use = resource.getrusage(resource.RUSAGE_SELF)
+    return use.ru_utime + use.ru_stime
+
+
 def _bare(fmt: str, path: str, columns: list[str]) -> dict[str, object]:
     start = time.perf_counter()
     import numpy as np
@@ -63,7 +72,7 @@ def _bare(fmt: str, path: str, columns: list[str]) -> dict[str, object]:
         table = table.drop_columns([name])
     del table
     rows = int(arrays[columns[0]].shape[0])
-    return {"seconds": time.perf_counter() - start, "peak_mb": _peak_mb(), "rows": rows}
+    return {"seconds": time.perf_counter() - start, "cpu_s": _cpu_s(), "peak_mb": _peak_mb(), "rows": rows}
 
 
 def _audit(path: str) -> dict[str, object]:
@@ -77,6 +86,7 @@ def _audit(path: str) -> dict[str, object]:
         counts[f.code] = counts.get(f.code, 0) + 1
     return {
         "seconds": seconds,
+        "cpu_s": _cpu_s(),
         "peak_mb": _peak_mb(),
         "findings": dict(sorted(counts.items())),
         "coverage": result.coverage.fraction,
@@ -137,6 +147,7 @@ def main() -> None:
 
     csv_path, pq_path = _files(args.regenerate)
     columns = _used_columns()
+    load_before = os.getloadavg()[0]
     cases = [("csv", csv_path), ("parquet", pq_path)]
     samples: dict[tuple[str, str], list[dict[str, object]]] = {}
     for fmt, path in cases:  # warm-up round: page cache, .pyc
@@ -148,45 +159,58 @@ def main() -> None:
             samples.setdefault((fmt, "audit"), []).append(_run("audit", path, columns))
 
     rows = int(samples[("csv", "bare")][0]["rows"])  # type: ignore[call-overload]
-    decoded_mb = rows * len(columns) * 8 / 2**20
+    decoded = rows * len(columns) * 8 / 2**20
+    load_after = os.getloadavg()[0]
     print(
         f"session: {rows} rows x {len(columns)} columns used (time + {len(columns) - 1}); decoded size "
-        f"{decoded_mb:.0f} MB; CSV {csv_path.stat().st_size / 2**20:.0f} MB, Parquet (zstd) "
-        f"{pq_path.stat().st_size / 2**20:.0f} MB; median of {args.runs} runs, each in a fresh process"
+        f"{decoded:.0f} MiB; CSV {csv_path.stat().st_size / 2**20:.0f} MiB, Parquet (zstd) "
+        f"{pq_path.stat().st_size / 2**20:.0f} MiB"
     )
-    first = samples[("parquet", "audit")][0]
-    print(f"audit findings by code: {first['findings']}; analysed coverage {float(first['coverage']):.4f}")  # type: ignore[arg-type]
+    print(
+        f"median of {args.runs} runs per case, each in a fresh process; load average {load_before:.1f} "
+        f"before, {load_after:.1f} after (2 cores, shared)"
+    )
+    found = samples[("parquet", "audit")][0]
+    print(f"audit findings by code: {found['findings']}; analysed coverage {float(found['coverage']):.4f}")  # type: ignore[arg-type]
     print()
-    head = f"{'case':24} {'median s':>9} {'min s':>7} {'max s':>7} {'ratio':>6} {'target':>7}  {'peak MB':>8}  verdict"
+    head = (
+        f"{'case':20} {'median s':>9} {'min s':>7} {'max s':>7} {'CPU s':>7} {'ratio':>6} {'target':>7} "
+        f"{'peak MiB':>9}  verdict"
+    )
     print(head)
-    print("-" * len(head))
+    print("-" * (len(head) + 40))
     for fmt, _ in cases:
-        bare = samples[(fmt, "bare")]
-        aud = samples[(fmt, "audit")]
-        b_med = statistics.median(float(s["seconds"]) for s in bare)  # type: ignore[arg-type]
-        a_times = [float(s["seconds"]) for s in aud]  # type: ignore[arg-type]
-        a_med = statistics.median(a_times)
-        b_peak = max(float(s["peak_mb"]) for s in bare)  # type: ignore[arg-type]
-        a_peak = max(float(s["peak_mb"]) for s in aud)  # type: ignore[arg-type]
-        b_times = [float(s["seconds"]) for s in bare]  # type: ignore[arg-type]
+        bare, aud = samples[(fmt, "bare")], samples[(fmt, "audit")]
+        b_med, a_med = _median(bare, "seconds"), _median(aud, "seconds")
+        print(_row(f"bare read {fmt}", bare, "", "", ""))
+        ratio, target = a_med / b_med, TARGETS[fmt]
+        verdict = f"time {'within' if ratio <= target else 'over'} target ({ratio / target:.2f} of it)"
+        print(_row(f"audit {fmt}", aud, f"{ratio:6.2f}", f"{target:6.2f}x", verdict))
+        peak = max(float(s["peak_mb"]) for s in aud)  # type: ignore[arg-type]
+        mem = peak / decoded
         print(
-            f"{'bare read ' + fmt:24} {b_med:9.3f} {min(b_times):7.3f} {max(b_times):7.3f} {'':>6} {'':>7}  "
-            f"{b_peak:8.0f}"
+            f"{'  audit peak memory':20} {'':>9} {'':>7} {'':>7} {'':>7} {mem:6.2f} {MEMORY_TARGET:6.2f}x "
+            f"{peak:9.0f}  memory {'within' if mem <= MEMORY_TARGET else 'over'} target "
+            f"({mem / MEMORY_TARGET:.2f} of it: {peak:.0f} MiB / {decoded:.0f} MiB decoded)"
         )
-        ratio = a_med / b_med
-        target = TARGETS[fmt]
-        verdict = "within target" if ratio <= target else "over target"
-        print(
-            f"{'audit ' + fmt:24} {a_med:9.3f} {min(a_times):7.3f} {max(a_times):7.3f} {ratio:6.2f} "
-            f"{target:6.2f}x  {a_peak:8.0f}  time {verdict} ({ratio / target:.2f} of target)"
-        )
-        mem = a_peak / decoded_mb
-        mem_verdict = "within target" if mem <= MEMORY_TARGET else "over target"
-        print(
-            f"{'  peak memory ' + fmt:24} {'':>9} {'':>7} {'':>7} {mem:6.2f} {MEMORY_TARGET:6.2f}x  "
-            f"{a_peak:8.0f}  memory {mem_verdict} ({mem / MEMORY_TARGET:.2f} of target; "
-            f"{a_peak:.0f} MB / {decoded_mb:.0f} MB decoded)"
-        )
+    print()
+    print(
+        "ratio: median audit time / median bare-read time of the same file; peak: largest ru_maxrss of the "
+        "runs; CPU s: median user + system time of the process (all threads)"
+    )
+
+
+def _median(runs: list[dict[str, object]], key: str) -> float:
+    return statistics.median(float(r[key]) for r in runs)  # type: ignore[arg-type]
+
+
+def _row(name: str, runs: list[dict[str, object]], ratio: str, target: str, verdict: str) -> str:
+    times = [float(r["seconds"]) for r in runs]  # type: ignore[arg-type]
+    peak = max(float(r["peak_mb"]) for r in runs)  # type: ignore[arg-type]
+    return (
+        f"{name:20} {statistics.median(times):9.3f} {min(times):7.3f} {max(times):7.3f} "
+        f"{_median(runs, 'cpu_s'):7.2f} {ratio:>6} {target:>7} {peak:9.0f}  {verdict}"
+    )
 
 
 if __name__ == "__main__":

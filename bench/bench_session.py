@@ -87,9 +87,7 @@ def _min_jerk(tau: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
     return pos, vel
 
 
-def _joint_motion(
-    t: np.ndarray, plan: JointPlan, rng: np.random.Generator
-) -> tuple[np.ndarray, np.ndarray]:
+def _joint_motion(t: np.ndarray, plan: JointPlan, rng: np.random.Generator) -> tuple[np.ndarray, np.ndarray]:
     """Position (deg) and velocity (deg/s) of one joint's repetitions, before incidents and noise."""
     n_cycles = int(np.ceil(DURATION / CYCLE)) + 1
     cycle = (t // CYCLE).astype(np.int64)
@@ -114,7 +112,9 @@ def _joint_motion(
     return pos, vel
 
 
-def _stop(t: np.ndarray, pos: np.ndarray, vel: np.ndarray, at: float, decel: float, home: float) -> np.ndarray:
+def _stop(
+    t: np.ndarray, pos: np.ndarray, vel: np.ndarray, at: float, decel: float, home: float
+) -> np.ndarray:
     """Brake at ``decel`` after the 30 ms reaction time, hold, then return to ``home`` by the end of the
     cycle (``pos``, ``vel`` in place).  Returns the mask of samples whose torque is off (category 1: torque
     held while braking, off 60 ms after standstill until the return starts)."""
