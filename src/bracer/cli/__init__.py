@@ -48,6 +48,7 @@ def _root(
 
 # Commands register themselves on `app` when their module is imported.
 from bracer.cli import audit as _audit  # noqa: E402,F401
+from bracer.cli import demo as _demo  # noqa: E402,F401
 from bracer.cli import report as _report  # noqa: E402,F401
 from bracer.cli import review as _review  # noqa: E402,F401
 from bracer.cli import schema as _schema  # noqa: E402,F401
