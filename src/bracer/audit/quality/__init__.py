@@ -85,12 +85,21 @@ class QualityOutcome:
 
 
 class _Masks:
-    """Masks gathered over the pass: per stream (time base) and per channel (True = not analysed)."""
+    """Masks gathered over the pass: per stream (time base) and per channel (True = not analysed).
+
+    Every session the pass hands to a check carries the valid mask of every channel, so that no check (nor
+    ``Session.signal``) derives it again from the values: a channel's NaNs are looked for once, here, and an
+    unflagged channel without NaNs shares its stream's time mask (no copy).
+    """
 
     def __init__(self, session: Session) -> None:
         self.session = session
         self.time: dict[str, np.ndarray] = {n: np.isfinite(s.time) for n, s in session.streams.items()}
         self.flags: dict[str, dict[str, np.ndarray]] = {}
+        #: per stream and channel: None when every value is finite, else the mask of finite values
+        self.finite: dict[str, dict[str, np.ndarray | None]] = {
+            n: {c: _finite(x) for c, x in s.channels.items()} for n, s in session.streams.items()
+        }
 
     def add(self, result: QualityResult) -> None:
         for inv in result.invalid:
@@ -100,28 +109,38 @@ class _Masks:
                 per = self.flags.setdefault(inv.stream, {})
                 per[inv.column] = per[inv.column] | inv.bad if inv.column in per else inv.bad.copy()
 
-    def channel_valid(self, final: bool) -> dict[str, dict[str, np.ndarray]]:
-        """Valid masks of flagged channels (all channels when ``final``).
-
-        An unflagged channel without NaNs shares its stream's time mask (no copy).
-        """
+    def channel_valid(self) -> dict[str, dict[str, np.ndarray]]:
+        """Valid masks of every channel: time valid, finite, and not flagged by a check."""
         out: dict[str, dict[str, np.ndarray]] = {}
         for name, stream in self.session.streams.items():
             tv = self.time[name]
             flags = self.flags.get(name, {})
+            finite = self.finite[name]
             per: dict[str, np.ndarray] = {}
-            for column, x in stream.channels.items():
+            for column in stream.channels:
+                ok = finite[column]
+                valid = tv if ok is None else tv & ok
                 if column in flags:
-                    per[column] = tv & np.isfinite(x) & ~flags[column]
-                elif final:
-                    finite = np.isfinite(x)
-                    per[column] = tv if finite.all() else tv & finite
+                    valid = valid & ~flags[column]
+                per[column] = valid
             out[name] = per
         return out
 
-    def apply(self, final: bool = False) -> Session:
+    def apply(self) -> Session:
         s = self.session
-        return Session(s.streams, s.inputs, dict(self.time), self.channel_valid(final), s.missing, s.dropped)
+        return Session(s.streams, s.inputs, dict(self.time), self.channel_valid(), s.missing, s.dropped)
+
+
+def _finite(x: np.ndarray) -> np.ndarray | None:
+    """None when every value of ``x`` is finite, else ``np.isfinite(x)``.
+
+    A finite sum means every term is finite (a NaN or an infinity makes it NaN or infinite); only when the
+    sum is not finite -- a missing value, or an overflow -- is the mask built.
+    """
+    if np.isfinite(np.add.reduce(x)):
+        return None
+    finite = np.isfinite(x)
+    return None if finite.all() else finite
 
 
 def run_quality(resolution: Resolution, session: Session) -> QualityOutcome:
@@ -137,7 +156,7 @@ def run_quality(resolution: Resolution, session: Session) -> QualityOutcome:
         if result.invalid:
             masks.add(result)
             current = masks.apply()
-    final = masks.apply(final=True)
+    final = masks.apply()
     protocol = resolution.protocol
     cov = coverage(final, channel_map(protocol), protocol.audit.gap_tolerance)
     return QualityOutcome(final, tuple(findings), timings, cov, tuple(m.CHECK.code for m in ORDER))

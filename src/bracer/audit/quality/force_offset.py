@@ -90,7 +90,10 @@ def run(ctx: AuditContext) -> QualityResult:
             )
             continue
         at = mask_of(starts[long], ends[long], t.size)
-        medians = {s.column: float(np.median(s.x[at])) for s in signals if s is not None}
+        # s.x[at] is a fresh copy: the median may partition it in place (no second copy of the rest samples)
+        medians = {
+            s.column: float(np.median(s.x[at], overwrite_input=True)) for s in signals if s is not None
+        }
         if ch.use == "axis" and ch.axis is not None:
             offset = abs(medians[ch.axis])
         else:

@@ -42,6 +42,8 @@ def run(ctx: AuditContext) -> QualityResult:
     for ch in logged_channels(ctx, states=True):
         if ch.stream.n == 0:
             continue
+        if ch.x.dtype.kind == "f" and np.isfinite(np.add.reduce(ch.x)):
+            continue  # a finite sum: every value is finite, no cell is empty (one pass, no mask)
         tv = time_valid(ctx, ch.stream)
         hole = empty(ch.x) & tv
         if not hole.any():

@@ -79,8 +79,11 @@ def rate_samples(
     return idx, rate
 
 
-def _speed(ctx: AuditContext, joint: str, window: float) -> tuple[str, np.ndarray] | None:
-    """A joint's speed magnitude (rad/s) on its stream, NaN where unknown; velocity preferred to position."""
+def _below(
+    ctx: AuditContext, joint: str, window: float, threshold: float, scratch: dict[str, np.ndarray]
+) -> tuple[str, np.ndarray] | None:
+    """Where a joint's speed magnitude is known and below ``threshold`` (rad/s), on its stream; velocity
+    preferred to position.  ``scratch`` holds one |v| buffer per stream, shared by its joints."""
     ch = ctx.resolution.protocol.joints[joint].channels
     for ref, derive in ((ch.velocity, False), (ch.position, True)):
         if ref is None:
@@ -89,8 +92,14 @@ def _speed(ctx: AuditContext, joint: str, window: float) -> tuple[str, np.ndarra
         if sig is None:
             continue
         if derive:
-            return ref.stream, np.abs(position_rate(sig.t, sig.x, sig.valid, window))
-        return ref.stream, np.where(sig.valid, np.abs(sig.x), np.nan)
+            return ref.stream, np.abs(position_rate(sig.t, sig.x, sig.valid, window)) < threshold
+        speed = scratch.get(ref.stream)
+        if speed is None or speed.shape != sig.x.shape:
+            speed = scratch[ref.stream] = np.empty(sig.x.shape, dtype=np.float64)
+        np.abs(sig.x, out=speed)
+        below = np.less(speed, threshold)  # NaN compares False: unknown is not rest
+        below &= sig.valid
+        return ref.stream, below
     return None
 
 
@@ -101,13 +110,17 @@ def rest_by_stream(ctx: AuditContext, threshold: float) -> dict[str, tuple[np.nd
     """
     window = ctx.resolution.protocol.audit.derivative_window.si
     still: dict[str, np.ndarray] = {}
+    scratch: dict[str, np.ndarray] = {}
     for joint in ctx.resolution.protocol.joints:
-        found = _speed(ctx, joint, window)
+        found = _below(ctx, joint, window, threshold, scratch)
         if found is None:
             continue
-        name, speed = found
-        below = speed < threshold  # NaN compares False: unknown is not rest
-        still[name] = still[name] & below if name in still else below
+        name, below = found
+        if name in still:
+            still[name] &= below  # the first joint's mask is this function's own
+        else:
+            still[name] = below
+    del scratch
     if not still:
         return None
     out: dict[str, tuple[np.ndarray, np.ndarray]] = {}

@@ -6,6 +6,7 @@ from collections.abc import Callable
 
 import numpy as np
 
+from bracer.audit.events import runs as event_runs
 from bracer.findings import Finding
 
 __all__ = ["MAX_FINDINGS_PER_CHANNEL", "capped", "runs"]
@@ -24,10 +25,7 @@ def runs(mask: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
         idx = np.flatnonzero(mask)
         breaks = np.flatnonzero(np.diff(idx) != 1)
         return idx[np.r_[0, breaks + 1]], idx[np.r_[breaks, idx.size - 1]]
-    edges = np.diff(mask.view(np.int8) if mask.dtype == bool else mask.astype(np.int8), prepend=0, append=0)
-    starts = np.flatnonzero(edges == 1)
-    ends = np.flatnonzero(edges == -1) - 1
-    return starts, ends
+    return event_runs(mask)  # dense: from the mask's change points
 
 
 def capped(
