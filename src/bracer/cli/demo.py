@@ -22,7 +22,7 @@ if TYPE_CHECKING:
     from bracer.demo import DemoResult, Step
 
 
-@app.command(short_help="Write an invented demo study and review, audit and report all of it.")
+@app.command(short_help="Run an invented demo study: review, audit, reports.")
 def demo(
     # typer declares arguments and options as default values; B008 does not apply to them.
     folder: Path = typer.Argument(  # noqa: B008
