@@ -27,11 +27,12 @@ def demo(
     # typer declares arguments and options as default values; B008 does not apply to them.
     folder: Path = typer.Argument(  # noqa: B008
         Path("bracer-demo"),
+        metavar="DIR",
         help="Folder to write the demo study into (created; an earlier demo there is replaced).",
     ),
 ) -> None:
     """Write an invented study (protocol, three participants, two simulated sessions each, with scripted
-    incidents and one clean session) into FOLDER, then review, audit and report all of it and print a
+    incidents and one clean session) into DIR, then review, audit and report all of it and print a
     summary.  The findings are expected: each session's truth.json lists what was scripted."""
     from rich.console import Console
 
@@ -41,7 +42,6 @@ def demo(
     # Outside a terminal rich would wrap at 80 columns; the summary table reads better wider.
     width = None if sys.stdout.isatty() or os.environ.get("COLUMNS") else 140
     console = Console(highlight=False, width=width)
-    console.print(f"bracer demo: writing an invented study into {folder}")
     try:
         result = _run(folder, console)
     except InputError as exc:

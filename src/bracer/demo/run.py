@@ -194,7 +194,10 @@ class _Run:
         shutil.copyfile(data_dir("protocols") / PROTOCOL_FILE, protocol)
         loaded = load_protocol(protocol)
         self.step(
-            "protocol", None, None, f"{protocol} ({len(self.codes)} participants, {len(STUDY)} sessions)"
+            "protocol",
+            None,
+            None,
+            f"wrote {protocol} ({len(self.codes)} participants, {len(STUDY)} sessions)",
         )
         reviews = {code: self.review(loaded, code) for code in self.codes}
         sessions = tuple(self.session(loaded, spec, reviews[spec.participant].record) for spec in STUDY)
