@@ -89,3 +89,19 @@ def test_a_damaged_file_is_an_input_error(tmp_path: Path) -> None:
     assert parquet.columns(path) == tuple(_table(0).column_names)  # the footer itself still reads
     with pytest.raises(InputError, match="cannot read the Parquet data"):
         parquet.read(path, ["t"], ["pos", "vel", "tau"], [])
+
+
+def test_plain_columns_are_read_without_importing_pandas(tmp_path: Path) -> None:
+    # pandas costs about 0.2 s to import; Arrow's own numpy conversion would bring it in (start-up budget)
+    import subprocess
+    import sys
+
+    path = tmp_path / "log.parquet"
+    pq.write_table(_table(300).select(["t", "pos", "vel", "tau", "flag", "estop"]), path, row_group_size=64)
+    code = (
+        "import sys; from pathlib import Path; from bracer.session import parquet; "
+        f"raw = parquet.read(Path({str(path)!r}), ['t'], ['pos', 'vel', 'tau', 'flag'], ['estop']); "
+        "print(raw.n, 'pandas' in sys.modules)"
+    )
+    done = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True, check=True)
+    assert done.stdout.split() == ["300", "False"]

@@ -3,8 +3,9 @@
 Plain numeric columns (floating, integer, boolean) -- all of a typical log -- are decoded one column chunk
 (row group × column) at a time straight into preallocated float64 arrays, on a few threads: the whole table is
 never held in Arrow memory beside its numpy copy, so an hour-long log costs about its decoded size, and no
-concatenation of chunks follows.  Any other column type (text status columns, dictionaries, durations,
-timestamps ...) goes through :func:`~bracer.session.columns.arrays_from_table` like the other readers, which
+concatenation of chunks follows (nor the pandas import that Arrow's own numpy conversion brings).  Any other
+column type (text status columns, dictionaries, durations, timestamps ...) goes through
+:func:`~bracer.session.columns.arrays_from_table` like the other readers, which
 gives the same arrays and the same errors.
 """
 
@@ -93,6 +94,20 @@ def _plain_numeric(typ: pa.DataType) -> bool:
     return bool(pt.is_floating(typ) or pt.is_integer(typ) or pt.is_boolean(typ))
 
 
+def _copy_float64(values: pa.Array, dest: np.ndarray) -> None:
+    """Copy a float64 Arrow array into ``dest`` (same length), NaN where it is null.
+
+    Read from the array's buffers: ``Array.to_numpy`` would import pandas (about 0.2 s) for no gain here.
+    """
+    buffers = values.buffers()
+    k, offset = len(values), values.offset
+    dest[:] = np.frombuffer(buffers[1], dtype=np.float64, count=k, offset=offset * 8)  # type: ignore[arg-type]
+    if values.null_count:
+        bits = np.frombuffer(buffers[0], dtype=np.uint8)  # type: ignore[arg-type]
+        present = np.unpackbits(bits, count=offset + k, bitorder="little")[offset:]
+        dest[present == 0] = np.nan
+
+
 def _decode_plain(path: Path, names: list[str]) -> tuple[int, dict[str, np.ndarray]]:
     """Decode ``names`` (plain numeric columns) into float64 arrays, NaN for nulls, a column chunk at a time.
 
@@ -134,10 +149,8 @@ def _decode_plain(path: Path, names: list[str]) -> tuple[int, dict[str, np.ndarr
         at, dest = offsets[group], out[name]
         for chunk in col.chunks:
             k = len(chunk)
-            values = chunk if chunk.type == f64 else chunk.cast(f64)
-            dest[at : at + k] = values.to_numpy(zero_copy_only=False)  # nulls become NaN
-            if values.null_count and not np.isnan(dest[at : at + k]).any():  # pragma: no cover
-                raise AssertionError("nulls lost in conversion")
+            if k:
+                _copy_float64(chunk if chunk.type == f64 else chunk.cast(f64), dest[at : at + k])
             at += k
         if at != offsets[group + 1]:  # pragma: no cover - the footer and the data disagree
             raise pa.ArrowInvalid(f"row group {group} of column '{name}' holds {at - offsets[group]} rows")
