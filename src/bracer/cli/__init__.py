@@ -52,8 +52,8 @@ from bracer.cli import demo as _demo  # noqa: E402,F401
 from bracer.cli import report as _report  # noqa: E402,F401
 from bracer.cli import review as _review  # noqa: E402,F401
 from bracer.cli import schema as _schema  # noqa: E402,F401
-from bracer.cli import verify as _verify  # noqa: E402,F401
 from bracer.cli import simulate as _simulate  # noqa: E402,F401
+from bracer.cli import verify as _verify  # noqa: E402,F401
 
 
 def main() -> None:
