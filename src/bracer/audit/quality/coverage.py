@@ -78,9 +78,10 @@ def coverage(session: Session, needs: dict[str, StreamNeeds], gap_tolerance: flo
     """Coverage per protocol column and for the session, from the masks the data-quality pass set."""
     bounds = []
     for name, s in session.streams.items():
-        t = s.time[session.time_valid.get(name, np.isfinite(s.time))]
-        if t.size:
-            bounds += [float(t[0]), float(t[-1])]
+        valid = session.time_valid.get(name, np.isfinite(s.time))
+        if valid.any():  # first and last valid time, without a copy of the clock
+            first, last = int(np.argmax(valid)), valid.size - 1 - int(np.argmax(valid[::-1]))
+            bounds += [float(s.time[first]), float(s.time[last])]
     start, end = (min(bounds), max(bounds)) if bounds else (None, None)
     total = (end - start) if start is not None and end is not None else 0.0
 
