@@ -12,11 +12,12 @@ import weakref
 from collections.abc import Callable
 from dataclasses import dataclass
 from functools import lru_cache
-from typing import Any, Literal, TypeVar
+from typing import Any, Literal, TypedDict, TypeVar
 
 import numpy as np
 
 from bracer.audit.context import AuditContext
+from bracer.audit.events import Event
 from bracer.findings import Check, Finding, Kind, Severity
 from bracer.session.model import Signal
 from bracer.units import format_number, parse_unit
@@ -175,10 +176,16 @@ def finding(
     subject: str | None,
     subject_kind: SubjectKind,
     quantity: str,
+    event: Event | None = None,
     **fields: Any,
 ) -> Finding:
-    """An audit finding; ``subject_kind`` travels in ``extra`` (reports group by it without guessing)."""
+    """An audit finding; ``subject_kind`` travels in ``extra`` (reports group by it without guessing).
+
+    ``event``, when given, fills the span of the finding from it: ``t_start``, ``t_end``, ``t_peak`` (s) and
+    ``i_start``, ``i_end`` (sample rows).  Passing one of those fields as well is a ``TypeError``.
+    """
     extra = (("subject_kind", subject_kind), *fields.pop("extra", ()))
+    span: _Span | dict[str, Any] = {} if event is None else _event_span(event)
     return Finding(
         code=check.code,
         name=check.name,
@@ -188,8 +195,23 @@ def finding(
         subject=subject,
         quantity=quantity,
         extra=extra,
+        **span,
         **fields,
     )
+
+
+class _Span(TypedDict):
+    """The :class:`~bracer.findings.Finding` fields an event fills: times in s, sample rows."""
+
+    t_start: float
+    t_end: float
+    t_peak: float
+    i_start: int
+    i_end: int
+
+
+def _event_span(ev: Event) -> _Span:
+    return _Span(t_start=ev.t_start, t_end=ev.t_end, t_peak=ev.t_peak, i_start=ev.i_start, i_end=ev.i_end)
 
 
 def not_assessable(

@@ -27,6 +27,7 @@ from bracer.audit.checks._common import (
     fmt,
     fmt_t,
     in_unit,
+    not_assessable,
     signal,
     span_text,
 )
@@ -36,7 +37,15 @@ from bracer.findings import Check, Finding, Kind, Severity
 from bracer.protocol.model import Contact
 from bracer.units import Quantity
 
-__all__ = ["ContactForce", "ContactLimit", "contact_force", "contact_limits", "limit_events", "near_events"]
+__all__ = [
+    "ContactForce",
+    "ContactLimit",
+    "contact_force",
+    "contact_limit_findings",
+    "contact_limits",
+    "limit_events",
+    "near_events",
+]
 
 ContactQuantity = Literal["force", "pressure"]
 
@@ -211,6 +220,32 @@ def contact_violations(
     return out
 
 
+def contact_limit_findings(check: Check, ctx: AuditContext, quantity: ContactQuantity) -> list[Finding]:
+    """Violations of the ``quantity`` limits of every contact; not assessable without a usable force channel.
+
+    Every contact declares force limits; pressure limits are optional, and a contact without them is skipped.
+    """
+    out: list[Finding] = []
+    for name, contact in ctx.resolution.protocol.contacts.items():
+        if quantity == "pressure" and contact.pressure is None:
+            continue
+        cf = contact_force(ctx, name)
+        if isinstance(cf, Unavailable):
+            out.append(
+                not_assessable(
+                    check,
+                    cf,
+                    subject=name,
+                    subject_kind="contact",
+                    quantity=quantity,
+                    what=f"{quantity} limits of contact '{name}'",
+                )
+            )
+            continue
+        out.extend(contact_violations(check, ctx, name, quantity, cf))
+    return out
+
+
 _WORDS = {"quasi_static": "quasi-static", "transient": "transient"}
 
 
@@ -235,11 +270,7 @@ def _violation(check: Check, lim: ContactLimit, cf: ContactForce, ev: Event, why
         quantity=lim.quantity,
         layer=lim.layer,
         channel=cf.channel,
-        t_start=ev.t_start,
-        t_end=ev.t_end,
-        t_peak=ev.t_peak,
-        i_start=ev.i_start,
-        i_end=ev.i_end,
+        event=ev,
         peak=peak,
         limit=limit,
         margin=margin,
@@ -281,11 +312,7 @@ def contact_near_miss(
         quantity=lim.quantity,
         layer=lim.layer,
         channel=cf.channel,
-        t_start=ev.t_start,
-        t_end=ev.t_end,
-        t_peak=ev.t_peak,
-        i_start=ev.i_start,
-        i_end=ev.i_end,
+        event=ev,
         peak=peak,
         limit=limit,
         margin=margin,

@@ -29,18 +29,28 @@ from __future__ import annotations
 
 from collections.abc import Callable
 from dataclasses import dataclass
+from typing import Any
 
 import numpy as np
 
-from bracer.audit.checks._common import Unavailable, cached, shown_values, text_variants
+from bracer.audit.checks._common import Unavailable, cached, finding, shown_values, text_variants
 from bracer.audit.checks._joint import Motion, joint_signal, joint_stream, motion
 from bracer.audit.checks._limits import exceedances, limit_specs
 from bracer.audit.context import AuditContext
 from bracer.audit.derive import sample_period
 from bracer.audit.events import first_sustained_where, hold_last, runs
+from bracer.findings import Check, Finding, Kind, Severity
 from bracer.protocol.model import TriggerChannel
 
-__all__ = ["Episode", "JointStop", "StopAnalysis", "Trigger", "stop_analysis", "trigger_active"]
+__all__ = [
+    "Episode",
+    "JointStop",
+    "StopAnalysis",
+    "Trigger",
+    "stop_analysis",
+    "stop_finding",
+    "trigger_active",
+]
 
 #: Whether a condition holds at samples ``lo .. hi - 1`` (see :func:`first_sustained_where`).
 Condition = Callable[[int, int], np.ndarray]
@@ -223,6 +233,29 @@ def _exceedance_triggers(ctx: AuditContext) -> list[Trigger]:
 def stop_analysis(ctx: AuditContext) -> StopAnalysis:
     """The stop episodes of the session, cached per audit."""
     return cached(ctx, ("stops",), lambda: _analyse(ctx))
+
+
+def stop_finding(
+    check: Check, kind: Kind, severity: Severity, message: str, trig: Trigger, *, quantity: str, **fields: Any
+) -> Finding:
+    """A finding about the stop after one trigger.
+
+    Its subject is the trigger's joint (an exceedance) or the session, its channel the trigger column, and it
+    starts at the trigger (``t_start`` s, ``i_start`` row on the trigger's stream); ``fields`` give the rest.
+    """
+    return finding(
+        check,
+        kind,
+        severity,
+        message,
+        subject=trig.subject,
+        subject_kind="joint" if trig.subject else "session",
+        quantity=quantity,
+        channel=trig.channel,
+        t_start=trig.t,
+        i_start=trig.i,
+        **fields,
+    )
 
 
 def _analyse(ctx: AuditContext) -> StopAnalysis:

@@ -10,8 +10,7 @@ the declared force unit.  A contact without a usable force channel gives an erro
 
 from __future__ import annotations
 
-from bracer.audit.checks._common import Unavailable, not_assessable
-from bracer.audit.checks._contact import contact_force, contact_violations
+from bracer.audit.checks._contact import contact_limit_findings
 from bracer.audit.context import AuditContext
 from bracer.findings import Check, Finding, Severity, register
 
@@ -28,20 +27,4 @@ CHECK = register(
 
 def run(ctx: AuditContext) -> list[Finding]:
     """Force violations of every contact."""
-    out: list[Finding] = []
-    for name in ctx.resolution.protocol.contacts:
-        cf = contact_force(ctx, name)
-        if isinstance(cf, Unavailable):
-            out.append(
-                not_assessable(
-                    CHECK,
-                    cf,
-                    subject=name,
-                    subject_kind="contact",
-                    quantity="force",
-                    what=f"force limits of contact '{name}'",
-                )
-            )
-            continue
-        out.extend(contact_violations(CHECK, ctx, name, "force", cf))
-    return out
+    return contact_limit_findings(CHECK, ctx, "force")

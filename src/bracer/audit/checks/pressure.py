@@ -8,8 +8,7 @@ contact with pressure limits and no usable force channel gives an error-level ``
 
 from __future__ import annotations
 
-from bracer.audit.checks._common import Unavailable, not_assessable
-from bracer.audit.checks._contact import contact_force, contact_violations
+from bracer.audit.checks._contact import contact_limit_findings
 from bracer.audit.context import AuditContext
 from bracer.findings import Check, Finding, Severity, register
 
@@ -26,22 +25,4 @@ CHECK = register(
 
 def run(ctx: AuditContext) -> list[Finding]:
     """Pressure violations of every contact that declares pressure limits."""
-    out: list[Finding] = []
-    for name, contact in ctx.resolution.protocol.contacts.items():
-        if contact.pressure is None:
-            continue
-        cf = contact_force(ctx, name)
-        if isinstance(cf, Unavailable):
-            out.append(
-                not_assessable(
-                    CHECK,
-                    cf,
-                    subject=name,
-                    subject_kind="contact",
-                    quantity="pressure",
-                    what=f"pressure limits of contact '{name}'",
-                )
-            )
-            continue
-        out.extend(contact_violations(CHECK, ctx, name, "pressure", cf))
-    return out
+    return contact_limit_findings(CHECK, ctx, "pressure")

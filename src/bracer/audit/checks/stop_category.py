@@ -23,8 +23,8 @@ from __future__ import annotations
 
 from dataclasses import dataclass
 
-from bracer.audit.checks._common import Unavailable, finding, fmt, fmt_t, not_assessable
-from bracer.audit.checks._stopping import Episode, stop_analysis
+from bracer.audit.checks._common import Unavailable, fmt, fmt_t, not_assessable
+from bracer.audit.checks._stopping import Episode, stop_analysis, stop_finding
 from bracer.audit.context import AuditContext
 from bracer.findings import Check, Finding, Kind, Severity, register
 
@@ -165,18 +165,14 @@ def _episode(ctx: AuditContext, ep: Episode) -> Finding:
         kind = Kind.VIOLATION
         severity = Severity.WARNING if stop.category == 2 else Severity.ERROR
         msg = f"{trig.label} at {fmt_t(trig.t)} did not behave as the declared {declared}: {v.reason}."
-    return finding(
+    return stop_finding(
         CHECK,
         kind,
         severity,
         msg,
-        subject=trig.subject,
-        subject_kind="joint" if trig.subject else "session",
+        trig,
         quantity="stop_category",
-        channel=trig.channel,
-        t_start=trig.t,
         t_end=t_end,
-        i_start=trig.i,
         peak=v.peak,
         limit=v.limit,
         unit="s",

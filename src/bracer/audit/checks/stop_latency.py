@@ -18,7 +18,7 @@ at the first sample, which cannot be timed (warning).
 from __future__ import annotations
 
 from bracer.audit.checks._common import TIME_EPS, finding, fmt, fmt_t, in_unit, not_assessable
-from bracer.audit.checks._stopping import Episode, stop_analysis
+from bracer.audit.checks._stopping import Episode, stop_analysis, stop_finding
 from bracer.audit.context import AuditContext
 from bracer.findings import Check, Finding, Kind, Severity, register
 
@@ -159,18 +159,14 @@ def _episode(ctx: AuditContext, ep: Episode, left_out: tuple[str, ...], derived_
             f"{fmt_t(t_still)}; {verdict} (timing resolution about one sample, "
             f"{fmt(ep.sample_period * 1e3)} ms){tail}."
         )
-    return finding(
+    return stop_finding(
         CHECK,
         kind,
         severity,
         msg,
-        subject=trig.subject,
-        subject_kind="joint" if trig.subject else "session",
+        trig,
         quantity="stop_latency",
-        channel=trig.channel,
-        t_start=trig.t,
         t_end=t_end,
-        i_start=trig.i,
         i_end=i_end,
         peak=value,
         limit=float(budget.magnitude),

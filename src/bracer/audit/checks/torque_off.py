@@ -19,8 +19,8 @@ joint), a joint the protocol maps no torque channel for (warning), and a categor
 
 from __future__ import annotations
 
-from bracer.audit.checks._common import TIME_EPS, Unavailable, finding, fmt, fmt_t, in_unit, not_assessable
-from bracer.audit.checks._stopping import Episode, stop_analysis
+from bracer.audit.checks._common import TIME_EPS, Unavailable, fmt, fmt_t, in_unit, not_assessable
+from bracer.audit.checks._stopping import Episode, stop_analysis, stop_finding
 from bracer.audit.context import AuditContext
 from bracer.findings import Check, Finding, Kind, Severity, register
 
@@ -119,18 +119,14 @@ def _episode(ctx: AuditContext, ep: Episode) -> Finding:
         )
         kind, severity = (Kind.VIOLATION, Severity.ERROR) if late else (Kind.STOP, Severity.INFO)
         t_end = t_off
-    return finding(
+    return stop_finding(
         CHECK,
         kind,
         severity,
         msg,
-        subject=trig.subject,
-        subject_kind="joint" if trig.subject else "session",
+        trig,
         quantity="torque_off",
-        channel=trig.channel,
-        t_start=trig.t,
         t_end=t_end,
-        i_start=trig.i,
         peak=value,
         limit=limit,
         margin=margin,
