@@ -108,7 +108,7 @@ class Finding:
     kind: Kind
     message: str
     subject: str | None = None  # joint or contact name from the protocol; None for the whole protocol/session
-    quantity: str | None = None  # position, speed, torque, force, pressure, sustained_force, stop_latency, ...
+    quantity: str | None = None  # position, speed, torque, force, pressure, sustained_force, stop_latency …
     direction: str | None = None  # positive / negative, where a limit has two
     layer: str | None = None  # planned / device / mechanical / participant
     channel: str | None = None
