@@ -291,6 +291,15 @@ def _contact_rules(
     def over(value: Array, limit: float) -> NDArray[np.bool_]:
         return value > limit
 
+    def add(
+        quantity: str, kind: str, value: Array, mask: NDArray[np.bool_], limit: Quantity, layer: str
+    ) -> None:
+        span = _span(clock, k0, t, mask, k_peak)
+        out.append(
+            _entry(plan, inc, quantity, kind, stream, columns, span, float(value[k_peak]), limit, limit.unit,
+                   layer=layer)
+        )
+
     def check(
         quantity: str, value: Array, qs: Quantity | None, tr: Quantity | None, band_qs: float, band_tr: float
     ) -> None:
@@ -298,39 +307,9 @@ def _contact_rules(
             return
         if tr is not None:
             if np.any(over(value, tr.si)):
-                span = _span(clock, k0, t, over(value, tr.si), k_peak)
-                out.append(
-                    _entry(
-                        plan,
-                        inc,
-                        quantity,
-                        "violation",
-                        stream,
-                        columns,
-                        span,
-                        float(value[k_peak]),
-                        tr,
-                        tr.unit,
-                        layer="transient",
-                    )
-                )
+                add(quantity, "violation", value, over(value, tr.si), tr, "transient")
             elif np.any(over(value, tr.si - band_tr)):
-                span = _span(clock, k0, t, over(value, tr.si - band_tr), k_peak)
-                out.append(
-                    _entry(
-                        plan,
-                        inc,
-                        quantity,
-                        "near_miss",
-                        stream,
-                        columns,
-                        span,
-                        float(value[k_peak]),
-                        tr,
-                        tr.unit,
-                        layer="transient",
-                    )
-                )
+                add(quantity, "near_miss", value, over(value, tr.si - band_tr), tr, "transient")
         above = over(value, qs.si)
         runs = _runs(above)
         too_long = [r for r in runs if t[r[1]] - t[r[0]] > dt_allow] if tr is not None else runs
@@ -338,39 +317,9 @@ def _contact_rules(
             mask = np.zeros_like(above)
             for a, b in too_long:
                 mask[a : b + 1] = True
-            span = _span(clock, k0, t, mask, k_peak)
-            out.append(
-                _entry(
-                    plan,
-                    inc,
-                    quantity,
-                    "violation",
-                    stream,
-                    columns,
-                    span,
-                    float(value[k_peak]),
-                    qs,
-                    qs.unit,
-                    layer="quasi_static",
-                )
-            )
+            add(quantity, "violation", value, mask, qs, "quasi_static")
         elif not runs and np.any(over(value, qs.si - band_qs)):
-            span = _span(clock, k0, t, over(value, qs.si - band_qs), k_peak)
-            out.append(
-                _entry(
-                    plan,
-                    inc,
-                    quantity,
-                    "near_miss",
-                    stream,
-                    columns,
-                    span,
-                    float(value[k_peak]),
-                    qs,
-                    qs.unit,
-                    layer="quasi_static",
-                )
-            )
+            add(quantity, "near_miss", value, over(value, qs.si - band_qs), qs, "quasi_static")
 
     check("force", f, c.force_qs, c.force_transient, c.band_force_qs, c.band_force_transient)
     check(
